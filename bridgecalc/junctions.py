@@ -274,7 +274,11 @@ def surface_along(path, environment: str = INTERIOR, heat_flow: str = "horizonta
     glazing : bool
         The interior surface is glazing or a frame.
     """
-    path = tuple((float(x), float(y)) for x, y in path)
+    points = []
+    for x, y in path:                 # drop repeated points (zero-length steps)
+        if not points or (float(x), float(y)) != points[-1]:
+            points.append((float(x), float(y)))
+    path = tuple(points)
     if environment == EXTERIOR:
         return Surface(EXTERIOR, RSE, path)
     rsi_temperature = RSI_SURFACE_TEMPERATURE_GLAZING if glazing else RSI_SURFACE_TEMPERATURE
