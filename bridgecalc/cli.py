@@ -1,0 +1,144 @@
+"""Command line: argument parsing and nothing else.
+
+Every command is a call a user could make from Python (``load``, ``run``,
+``write_outputs``, ``validation.run_checks``).
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from pathlib import Path
+
+from . import __version__
+from .errors import BridgecalcError
+
+DEMO_SCRIPT = "slab_edge.py"
+
+
+def geometries_folder() -> Path:
+    """The junction library shipped beside the package (source tree)."""
+    return Path(__file__).resolve().parent.parent / "geometries"
+
+
+def _parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="bridgecalc",
+        description="Two-dimensional thermal bridge calculations to ISO 10211: "
+                    "linear thermal transmittance Ψ and temperature factor fRsi.")
+    parser.add_argument("--version", action="version", version=f"bridgecalc {__version__}")
+    sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
+
+    run = sub.add_parser("run", help="compute one model file or geometry script")
+    run.add_argument("model", metavar="MODEL", help="model file (.toml) or geometry script (.py)")
+    run.add_argument("--out", metavar="DIR", help="output folder (default: a new folder "
+                     "named after the model, in the current folder)")
+    run.add_argument("--set", dest="assignments", metavar="NAME=VALUE", action="append",
+                     default=[], help="geometry script parameter (repeatable)")
+    run.add_argument("--element", choices=("P1", "P2"), default="P1",
+                     help="finite element: linear P1 (default) or quadratic P2")
+    run.add_argument("--refine", type=float, default=1.0, metavar="FACTOR",
+                     help="divide all target element sizes by FACTOR (default 1)")
+
+    sub.add_parser("check", help="run the built-in validation cases against their "
+                   "published references")
+    demo = sub.add_parser("demo", help="compute the shipped demo junction")
+    demo.add_argument("--out", metavar="DIR", help="output folder (default: a new "
+                      "folder bridgecalc-demo in the current folder)")
+    return parser
+
+
+def _load(path: str, assignments):
+    from . import scripts
+    from .errors import ModelError
+    from .pipeline import load
+    source = Path(path)
+    if not source.exists():
+        raise ModelError(f"{source}: no such file")
+    if source.suffix == ".py":
+        module = scripts.load_module(source)
+        return scripts.build(source, scripts.parse_assignments(module, assignments, source))
+    if assignments:
+        raise ModelError(f"{source}: --set applies to geometry scripts only, not model files")
+    return load(source)
+
+
+def summary(result, out_dir: Path) -> str:
+    """The one-screen table printed after a run."""
+    hf, st = result.heat_flow_case, result.surface_temperature_case
+    unit = result.model.length_unit
+    lines = [f"{result.model.name or result.model.origin}",
+             f"  mesh               {result.mesh.node_count} nodes, "
+             f"{result.mesh.triangle_count} triangles, {result.element}"]
+    for name, flow in hf.heat_flow.items():
+        lines.append(f"  heat flow {name:<9}{flow:12.4f} W/m")
+    lines.append(f"  balance            {hf.balance:12.1e}")
+    lines.append(f"  L2D                {hf.coupling_coefficient:12.4f} W/(m·K)")
+    for f in hf.flanking:
+        lines.append(f"  U·l {f.name[:14]:<15}{f.ul:12.4f} W/(m·K)")
+    if hf.psi is not None:
+        lines.append(f"  Ψ                  {hf.psi:12.4f} W/(m·K)")
+    x, y = st.theta_si_min_at
+    lines.append(f"  θsi,min            {st.theta_si_min:12.2f} °C at ({x:g}, {y:g}) {unit}")
+    lines.append(f"  fRsi               {st.f_rsi:12.3f}")
+    for name, value in st.probes.items():
+        lines.append(f"  probe {name:<13}{value:12.2f} °C (surface-temperature case)")
+    lines.append(f"  written to {out_dir}")
+    lines.append("  Results support, and do not replace, a qualified practitioner's judgement;")
+    lines.append("  inputs and criteria must follow the codes in force where the building stands.")
+    return "\n".join(lines)
+
+
+def _run_and_write(model, out_dir: Path, element="P1", refine=1.0) -> Path:
+    from .mesh import MeshOptions
+    from .outputs import write_outputs
+    from .pipeline import run
+    result = run(model, MeshOptions(refinement=refine), element)
+    write_outputs(result, out_dir)
+    print(summary(result, out_dir))
+    return out_dir
+
+
+def command_run(args) -> int:
+    from .outputs import fresh_folder
+    if not args.refine > 0:
+        raise BridgecalcError(f"--refine must be a positive number, got {args.refine:g}")
+    model = _load(args.model, args.assignments)
+    out_dir = Path(args.out) if args.out else fresh_folder(Path.cwd() / Path(args.model).stem)
+    _run_and_write(model, out_dir, args.element, args.refine)
+    return 0
+
+
+def command_demo(args) -> int:
+    from .outputs import REPORT_FILE, fresh_folder
+    script = geometries_folder() / DEMO_SCRIPT
+    model = _load(str(script), [])
+    out_dir = Path(args.out) if args.out else fresh_folder(Path.cwd() / "bridgecalc-demo")
+    _run_and_write(model, out_dir)
+    print(f"report: {out_dir / REPORT_FILE}")
+    return 0
+
+
+def command_check(args) -> int:
+    from .validation import format_table, run_checks
+    rows = run_checks()
+    print(format_table(rows))
+    return 0 if all(r.passed for r in rows) else 1
+
+
+def main(argv=None) -> int:
+    """Entry point of the ``bridgecalc`` command."""
+    args = _parser().parse_args(argv)
+    try:
+        return {"run": command_run, "demo": command_demo, "check": command_check}[
+            args.command](args)
+    except BridgecalcError as exc:
+        print(f"error: {exc}", file=sys.stderr)
+        return 2
+    except OSError as exc:
+        print(f"error: {exc.filename or ''}: {exc.strerror or exc}", file=sys.stderr)
+        return 2
+
+
+if __name__ == "__main__":
+    sys.exit(main())

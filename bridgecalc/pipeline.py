@@ -1,0 +1,152 @@
+"""The one path: model -> mesh -> solve -> results.
+
+``run`` is what the command line calls, and what a Python user calls::
+
+    model = load("detail.toml")
+    result = run(model)
+    result.psi
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from . import model as model_io
+from . import scripts
+from .errors import ModelError
+from .mesh import Mesh, MeshOptions, build_mesh
+from .model import Model
+from .results import (HeatFlowCase, SurfaceTemperatureCase, design_temperatures,
+                      heat_flow_case, surface_temperature_case)
+from .solve import Condition, ConductionProblem
+
+RESULTS_FORMAT = 1
+
+
+def load(path, **params) -> Model:
+    """Read a model file (``.toml``) or build a geometry script (``.py``).
+
+    Parameters
+    ----------
+    path : str or Path
+    **params
+        Geometry script parameters overriding its defaults.
+    """
+    path = Path(path)
+    if path.suffix == ".py":
+        return scripts.build(path, params)
+    if params:
+        raise ModelError(f"{path}: parameters apply to geometry scripts only, not model files")
+    return model_io.read(path)
+
+
+@dataclass
+class Result:
+    """Everything computed for one model.
+
+    Attributes
+    ----------
+    model : Model
+    mesh : Mesh
+    element : str
+    heat_flow_case : HeatFlowCase
+    surface_temperature_case : SurfaceTemperatureCase
+    """
+
+    model: Model
+    mesh: Mesh
+    element: str
+    heat_flow_case: HeatFlowCase
+    surface_temperature_case: SurfaceTemperatureCase
+
+    @property
+    def psi(self):
+        """Ψ [W/(m·K)], or None without flanking elements."""
+        return self.heat_flow_case.psi
+
+    @property
+    def coupling_coefficient(self) -> float:
+        """L2D [W/(m·K)]."""
+        return self.heat_flow_case.coupling_coefficient
+
+    @property
+    def theta_si_min(self) -> float:
+        """θsi,min [°C]."""
+        return self.surface_temperature_case.theta_si_min
+
+    @property
+    def f_rsi(self) -> float:
+        """fRsi [-]."""
+        return self.surface_temperature_case.f_rsi
+
+    def to_dict(self) -> dict:
+        """The content of results.json (format 1)."""
+        hf, st = self.heat_flow_case, self.surface_temperature_case
+        theta_i, theta_e = design_temperatures(self.model)
+        heat = {
+            "heat_flow": dict(hf.heat_flow),
+            "balance": hf.balance,
+            "coupling_coefficient": hf.coupling_coefficient,
+            "flanking": [{"name": f.name, "u_value": f.u_value, "length": f.length,
+                          "ul": f.ul} for f in hf.flanking],
+        }
+        if hf.psi is not None:
+            heat["psi"] = hf.psi
+        heat["probes"] = dict(hf.probes)
+        return {
+            "format": RESULTS_FORMAT,
+            "name": self.model.name,
+            "length_unit": self.model.length_unit,
+            "mesh": {"nodes": self.mesh.node_count, "triangles": self.mesh.triangle_count,
+                     "element": self.element},
+            "temperatures": {"interior": theta_i, "exterior": theta_e},
+            "heat_flow_case": heat,
+            "surface_temperature_case": {
+                "theta_si_min": st.theta_si_min,
+                "theta_si_min_at": list(st.theta_si_min_at),
+                "f_rsi": st.f_rsi,
+                "probes": dict(st.probes),
+            },
+        }
+
+
+def _conditions(model: Model, for_surface_temperature: bool):
+    temperatures = {e.name: e.temperature for e in model.environments}
+    return [Condition(temperatures[s.environment],
+                      s.resistance_for_surface_temperature if for_surface_temperature
+                      else s.resistance)
+            for s in model.surfaces]
+
+
+def material_arrays(model: Model, mesh: Mesh):
+    """λ [W/(m·K)] and heat generation q [W/m³] per triangle."""
+    conductivity = np.array([model.materials[r.material].conductivity for r in model.regions])
+    source = np.array([r.heat_source for r in model.regions], dtype=float)
+    return conductivity[mesh.region], source[mesh.region]
+
+
+def run(model: Model, mesh_options: MeshOptions | None = None, element: str = "P1") -> Result:
+    """Mesh and solve a model; return both calculation cases.
+
+    Parameters
+    ----------
+    model : Model
+    mesh_options : MeshOptions, optional
+    element : str
+        ``"P1"`` (default) or ``"P2"``.
+    """
+    model_io.validate(model)
+    design_temperatures(model)                 # fail before meshing
+    mesh = build_mesh(model, mesh_options)
+    conductivity, source = material_arrays(model, mesh)
+    problem = ConductionProblem(mesh, conductivity, len(model.surfaces), source, element)
+    heat_conditions = _conditions(model, False)
+    heat_field = problem.solve(heat_conditions)
+    surface_conditions = _conditions(model, True)
+    surface_field = (heat_field if surface_conditions == heat_conditions
+                     else problem.solve(surface_conditions))
+    return Result(model, mesh, element, heat_flow_case(model, heat_field),
+                  surface_temperature_case(model, surface_field))

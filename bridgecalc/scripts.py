@@ -1,0 +1,101 @@
+"""Geometry scripts: Python files that build a model from parameters.
+
+A script defines ``PARAMETERS``, a dict of defaults (units in the names), and
+``build(**params)``, which returns a :class:`bridgecalc.Model`.
+"""
+
+from __future__ import annotations
+
+import importlib.util
+import sys
+import uuid
+from pathlib import Path
+
+from .errors import BridgecalcError, ModelError
+from .model import Model
+
+
+def load_module(path):
+    """Import a geometry script by path, without touching sys.modules for good."""
+    path = Path(path)
+    if not path.is_file():
+        raise ModelError(f"{path}: no such geometry script")
+    name = f"bridgecalc_script_{uuid.uuid4().hex}"
+    spec = importlib.util.spec_from_file_location(name, path)
+    module = importlib.util.module_from_spec(spec)
+    sys.modules[name] = module             # dataclasses in scripts need their module registered
+    try:
+        spec.loader.exec_module(module)
+    except BridgecalcError:
+        raise
+    except Exception as exc:                # a user's script: report, do not crash
+        raise ModelError(f"{path}: the geometry script failed to load: "
+                         f"{type(exc).__name__}: {exc}") from exc
+    finally:
+        sys.modules.pop(name, None)
+    for attribute in ("PARAMETERS", "build"):
+        if not hasattr(module, attribute):
+            raise ModelError(f"{path}: a geometry script must define {attribute}")
+    if not isinstance(module.PARAMETERS, dict):
+        raise ModelError(f"{path}: PARAMETERS must be a dict of parameter defaults")
+    return module
+
+
+def parse_value(text: str, default):
+    """A ``--set`` value, read as the type of the parameter's default."""
+    if isinstance(default, bool):
+        lowered = text.strip().lower()
+        if lowered in ("true", "yes", "1", "on"):
+            return True
+        if lowered in ("false", "no", "0", "off"):
+            return False
+        raise ValueError("expected true or false")
+    if isinstance(default, int):
+        try:
+            return int(text)
+        except ValueError:
+            return float(text)
+    if isinstance(default, float):
+        return float(text)
+    return text
+
+
+def parse_assignments(module, assignments, origin) -> dict:
+    """``["name=value", ...]`` -> parameters, checked against PARAMETERS."""
+    params = {}
+    for item in assignments or ():
+        name, sep, text = item.partition("=")
+        name = name.strip()
+        if not sep or not name:
+            raise ModelError(f"--set {item!r}: expected NAME=VALUE")
+        if name not in module.PARAMETERS:
+            known = ", ".join(sorted(module.PARAMETERS))
+            raise ModelError(f"{origin}: --set {name}: no such parameter (parameters: {known})")
+        try:
+            params[name] = parse_value(text, module.PARAMETERS[name])
+        except ValueError as exc:
+            raise ModelError(f"{origin}: --set {name}={text}: {exc}") from None
+    return params
+
+
+def build(path, params=None) -> Model:
+    """Run a geometry script's ``build`` with its defaults updated by ``params``."""
+    module = load_module(path)
+    params = dict(params or {})
+    unknown = sorted(set(params) - set(module.PARAMETERS))
+    if unknown:
+        known = ", ".join(sorted(module.PARAMETERS))
+        raise ModelError(f"{path}: no such parameter {', '.join(unknown)} (parameters: {known})")
+    values = {**module.PARAMETERS, **params}
+    try:
+        model = module.build(**values)
+    except BridgecalcError:
+        raise
+    except Exception as exc:
+        raise ModelError(f"{path}: build() failed: {type(exc).__name__}: {exc}") from exc
+    if not isinstance(model, Model):
+        raise ModelError(f"{path}: build() must return a bridgecalc.Model, "
+                         f"got {type(model).__name__}")
+    if model.origin == "<model>":
+        model.origin = str(path)
+    return model
