@@ -806,7 +806,9 @@ def _check_polygon(check: _Checker, vertices, where: str):
     if len(set(pts)) < 3:
         check.fail(where, "a polygon needs at least 3 distinct vertices")
     ring = shapely.LinearRing(pts)
-    if shapely.Polygon(ring).area <= 1e-12 * geometry.largest_dimension([pts]) ** 2:
+    # all vertices on one line <=> their convex hull has no area
+    hull_area = shapely.MultiPoint(pts).convex_hull.area
+    if hull_area <= 1e-12 * geometry.largest_dimension([pts]) ** 2:
         check.fail(where, "the polygon has zero area (its vertices lie on one line)")
     if not ring.is_simple:
         check.fail(where, "the polygon intersects itself; its outline must not cross "

@@ -1,0 +1,625 @@
+"""Model files: reader, writer and the rules of model format 1.
+
+The rules come from the format contract, docs/model-format.md (a copy of the
+shared spec). Physical reference values are cited beside each check.
+Demo data here is fictional.
+"""
+
+from __future__ import annotations
+
+import copy
+import math
+import re
+from pathlib import Path
+
+import pytest
+import tomli_w
+
+from bridgecalc import model as M
+from bridgecalc.errors import ModelError
+from bridgecalc.model import (AirLayer, Environment, Flanking, Layer, Material, Model,
+                              Probe, Region, Surface)
+
+DOCS = Path(__file__).resolve().parent.parent / "docs" / "model-format.md"
+
+BASE = {
+    "format": 1,
+    "name": "Test wall, fictional block",
+    "length_unit": "mm",
+    "materials": {
+        "concrete": {"conductivity": 2.3},
+        "insulation": {"conductivity": 0.035, "source": "fictional declared value"},
+        "cavity": {"air_layer": {"thickness": 25, "direction": "horizontal"}},
+    },
+    "regions": [
+        {"material": "concrete", "rectangle": [0, 0, 200, 1000]},
+        {"material": "insulation", "polygon": [[200, 0], [360, 0], [360, 1000], [200, 1000]]},
+    ],
+    "environments": [
+        {"name": "inside", "temperature": 20.0, "kind": "interior"},
+        {"name": "outside", "temperature": 0.0, "kind": "exterior"},
+    ],
+    "surfaces": [
+        {"environment": "inside", "resistance": 0.13, "path": [[0, 0], [0, 1000]]},
+        {"environment": "outside", "resistance": 0.04, "path": [[360, 0], [360, 1000]]},
+    ],
+    "flanking": [
+        {"name": "wall", "u_value": 0.21, "length": 1000},
+        {"name": "wall built up", "layers": [{"material": "concrete", "thickness": 200}],
+         "length": 1000},
+    ],
+    "probes": [{"name": "A", "at": [0, 500]}],
+}
+
+
+def base():
+    return copy.deepcopy(BASE)
+
+
+def text_of(data) -> str:
+    return tomli_w.dumps(data)
+
+
+def test_base_model_is_valid():
+    m = M.loads(text_of(base()), "detail.toml")
+    assert m.origin == "detail.toml"
+    assert [r.shape for r in m.regions] == ["rectangle", "polygon"]
+    assert m.materials["insulation"].source == "fictional declared value"
+    assert m.surfaces[0].resistance_for_surface_temperature == 0.13
+
+
+# ---------------------------------------------------------------------------
+# One case per rule: (id, change to the base data, texts the message must hold)
+# ---------------------------------------------------------------------------
+
+def setter(*path_and_value):
+    """A change that sets data[path...] = value (value None deletes the key)."""
+    *path, value = path_and_value
+
+    def change(data):
+        node = data
+        for key in path[:-1]:
+            node = node[key]
+        if value is None:
+            del node[path[-1]]
+        else:
+            node[path[-1]] = value
+        return data
+    return change
+
+
+def appender(table, item):
+    def change(data):
+        data.setdefault(table, []).append(item)
+        return data
+    return change
+
+
+NAN, INF = float("nan"), float("inf")
+
+CASES = [
+    # format and units
+    ("format-unknown", setter("format", 2), ["format", "unknown format 2"]),
+    ("format-missing", setter("format", None), ["format", "missing"]),
+    ("format-string", setter("format", "1"), ["format", "string '1'"]),
+    ("length-unit-missing", setter("length_unit", None), ["length_unit", "missing"]),
+    ("length-unit-unknown", setter("length_unit", "cm"), ["length_unit", "'cm'"]),
+    # unknown keys, at every level
+    ("unknown-top-level", setter("materails", {"x": 1}), ["materails", "unknown key",
+                                                        "did you mean 'materials'"]),
+    ("unknown-material-key", setter("materials", "concrete", "lambda", 2.3),
+     ["materials.concrete.lambda", "unknown key"]),
+    ("unknown-air-layer-key", setter("materials", "cavity", "air_layer", "emissivity", 0.9),
+     ["materials.cavity.air_layer.emissivity", "did you mean 'emissivities'"]),
+    ("unknown-region-key", setter("regions", 1, "heatsource", 5.0),
+     ["regions[1].heatsource", "did you mean 'heat_source'"]),
+    ("unknown-environment-key", setter("environments", 0, "temp", 20),
+     ["environments[0].temp", "unknown key"]),
+    ("unknown-surface-key", setter("surfaces", 1, "resistence", 0.04),
+     ["surfaces[1].resistence", "did you mean 'resistance'"]),
+    ("unknown-flanking-key", setter("flanking", 0, "uvalue", 0.2),
+     ["flanking[0].uvalue", "unknown key"]),
+    ("unknown-layer-key", setter("flanking", 1, "layers", 0, "thick", 200),
+     ["flanking[1].layers[0].thick", "unknown key"]),
+    ("unknown-probe-key", setter("probes", 0, "position", [0, 0]),
+     ["probes[0].position", "unknown key"]),
+    # missing required keys
+    ("region-material-missing", setter("regions", 0, "material", None),
+     ["regions[0].material", "missing"]),
+    ("material-conductivity-missing", setter("materials", "concrete", "conductivity", None),
+     ["materials.concrete.conductivity", "missing"]),
+    # wrong types
+    ("conductivity-string", setter("materials", "concrete", "conductivity", "2.3"),
+     ["materials.concrete.conductivity", "expected a number", "string '2.3'"]),
+    ("temperature-boolean", setter("environments", 0, "temperature", True),
+     ["environments[0].temperature", "boolean"]),
+    ("rectangle-strings", setter("regions", 0, "rectangle", ["0", 0, 200, 1000]),
+     ["regions[0].rectangle", "four numbers"]),
+    ("polygon-point-wrong", setter("regions", 1, "polygon", [[200, 0], [360], [360, 1000]]),
+     ["regions[1].polygon[1]", "point"]),
+    ("kind-not-string", setter("environments", 1, "kind", 3),
+     ["environments[1].kind", "expected a string"]),
+    ("probe-name-number", setter("probes", 0, "name", 7), ["probes[0].name", "string"]),
+    ("name-not-string", setter("name", 12), ["name", "expected a string"]),
+    # materials
+    ("undefined-material", setter("regions", 1, "material", "insulaton"),
+     ["regions[1].material", "material 'insulaton' is not defined",
+      "(defined: concrete, insulation, cavity)"]),
+    ("conductivity-nan", setter("materials", "concrete", "conductivity", NAN),
+     ["materials.concrete.conductivity", "finite"]),
+    ("conductivity-zero", setter("materials", "insulation", "conductivity", 0.0),
+     ["materials.insulation.conductivity", "greater than 0"]),
+    ("conductivity-negative", setter("materials", "insulation", "conductivity", -0.035),
+     ["materials.insulation.conductivity", "greater than 0"]),
+    ("air-layer-and-conductivity", setter("materials", "cavity", "conductivity", 0.1),
+     ["materials.cavity", "conductivity or air_layer, not both"]),
+    ("air-layer-direction", setter("materials", "cavity", "air_layer", "direction", "sideways"),
+     ["materials.cavity.air_layer.direction", "'sideways'"]),
+    ("air-layer-direction-missing", setter("materials", "cavity", "air_layer", "direction", None),
+     ["materials.cavity.air_layer.direction", "missing"]),
+    ("air-layer-thickness-zero", setter("materials", "cavity", "air_layer", "thickness", 0),
+     ["materials.cavity.air_layer.thickness", "greater than 0"]),
+    ("air-layer-emissivity", setter("materials", "cavity", "air_layer", "emissivities", [1.2, 0.9]),
+     ["materials.cavity.air_layer.emissivities[0]", "(0, 1]"]),
+    # regions
+    ("rectangle-and-polygon", setter("regions", 0, "polygon", [[0, 0], [1, 0], [1, 1]]),
+     ["regions[0]", "rectangle or polygon, not both"]),
+    ("neither-rectangle-nor-polygon", setter("regions", 0, "rectangle", None),
+     ["regions[0]", "rectangle", "polygon"]),
+    ("rectangle-x1-not-greater", setter("regions", 0, "rectangle", [0, 0, 0, 1000]),
+     ["regions[0].rectangle", "x1 (0) must be greater than x0 (0)"]),
+    ("rectangle-y1-not-greater", setter("regions", 0, "rectangle", [0, 1000, 200, 0]),
+     ["regions[0].rectangle", "y1 (0) must be greater than y0 (1000)"]),
+    ("polygon-two-vertices", setter("regions", 1, "polygon", [[200, 0], [360, 0]]),
+     ["regions[1].polygon", "at least 3 points"]),
+    ("polygon-two-distinct", setter("regions", 1, "polygon", [[200, 0], [360, 0], [360, 0]]),
+     ["regions[1].polygon", "same point"]),
+    ("polygon-closed-explicitly",
+     setter("regions", 1, "polygon", [[200, 0], [360, 0], [360, 1000], [200, 0]]),
+     ["regions[1].polygon", "repeats the first"]),
+    ("polygon-zero-area", setter("regions", 1, "polygon", [[200, 0], [300, 0], [360, 0]]),
+     ["regions[1].polygon", "zero area"]),
+    ("polygon-self-intersecting",
+     setter("regions", 1, "polygon", [[200, 0], [360, 1000], [360, 0], [200, 1000]]),
+     ["regions[1].polygon", "intersects itself"]),
+    ("polygon-infinite", setter("regions", 1, "polygon", [[200, 0], [INF, 0], [360, 1000]]),
+     ["regions[1].polygon[1][0]", "finite"]),
+    ("heat-source-string", setter("regions", 0, "heat_source", "5"),
+     ["regions[0].heat_source", "expected a number"]),
+    ("no-regions", setter("regions", []), ["regions", "no regions"]),
+    # environments
+    ("duplicate-environment", setter("environments", 1, "name", "inside"),
+     ["environments[1].name", "'inside' is already used by environments[0]"]),
+    ("environment-kind-unknown", setter("environments", 1, "kind", "outdoor"),
+     ["environments[1].kind", "'outdoor'"]),
+    ("temperature-infinite", setter("environments", 0, "temperature", INF),
+     ["environments[0].temperature", "finite"]),
+    ("no-interior", setter("environments", 0, "kind", "exterior"),
+     ["environments", "no interior environment"]),
+    ("no-exterior", setter("environments", 1, "kind", "interior"),
+     ["environments", "no exterior environment"]),
+    # surfaces
+    ("no-surfaces", setter("surfaces", []), ["surfaces", "no surfaces"]),
+    ("surface-undefined-environment", setter("surfaces", 1, "environment", "outdoors"),
+     ["surfaces[1].environment", "'outdoors' is not defined"]),
+    ("resistance-negative", setter("surfaces", 0, "resistance", -0.13),
+     ["surfaces[0].resistance", "0 or more"]),
+    ("resistance-surface-temperature-negative",
+     setter("surfaces", 0, "resistance_surface_temperature", -0.25),
+     ["surfaces[0].resistance_surface_temperature", "0 or more"]),
+    ("resistance-nan", setter("surfaces", 1, "resistance", NAN),
+     ["surfaces[1].resistance", "finite"]),
+    ("path-one-point", setter("surfaces", 0, "path", [[0, 0]]),
+     ["surfaces[0].path", "at least 2 points"]),
+    ("path-on-no-outline-edge", setter("surfaces", 0, "path", [[100, -50], [100, 1050]]),
+     ["surfaces[0].path", "lies on no outline edge"]),
+    ("path-off-the-solid", setter("surfaces", 0, "path", [[-5, 0], [-5, 1000]]),
+     ["surfaces[0].path", "lies on no outline edge"]),
+    ("two-surfaces-one-edge",
+     appender("surfaces", {"environment": "outside", "resistance": 0.04,
+                           "path": [[0, 500], [0, 1000]]}),
+     ["surfaces[2].path", "surfaces[0]", "'inside'"]),
+    # solid in pieces
+    ("piece-without-surface",
+     appender("regions", {"material": "concrete", "rectangle": [1000, 0, 1200, 100]}),
+     ["regions[2].rectangle", "falls apart", "touches no surface"]),
+    # flanking
+    ("flanking-both", setter("flanking", 0, "layers", [{"material": "concrete", "thickness": 1}]),
+     ["flanking[0]", "u_value or layers, not both"]),
+    ("flanking-neither", setter("flanking", 0, "u_value", None),
+     ["flanking[0]", "u_value", "layers"]),
+    ("flanking-u-negative", setter("flanking", 0, "u_value", -0.2),
+     ["flanking[0].u_value", "0 or more"]),
+    ("flanking-length-negative", setter("flanking", 0, "length", -1000),
+     ["flanking[0].length", "0 or more"]),
+    ("flanking-length-missing", setter("flanking", 0, "length", None),
+     ["flanking[0].length", "missing"]),
+    ("layer-thickness-zero", setter("flanking", 1, "layers", 0, "thickness", 0),
+     ["flanking[1].layers[0].thickness", "greater than 0"]),
+    ("layer-undefined-material", setter("flanking", 1, "layers", 0, "material", "steel"),
+     ["flanking[1].layers[0].material", "'steel' is not defined"]),
+    ("layers-empty", setter("flanking", 1, "layers", []),
+     ["flanking[1].layers", "at least one layer"]),
+    ("surface-resistances-one-number", setter("flanking", 1, "surface_resistances", [0.13]),
+     ["flanking[1].surface_resistances", "two numbers"]),
+    ("surface-resistances-negative", setter("flanking", 1, "surface_resistances", [0.13, -0.04]),
+     ["flanking[1].surface_resistances[1]", "0 or more"]),
+    ("surface-resistances-with-u-value", setter("flanking", 0, "surface_resistances", [0.13, 0.04]),
+     ["flanking[0].surface_resistances", "only used with layers"]),
+    # probes
+    ("probe-outside", setter("probes", 0, "at", [-10, 500]),
+     ["probes[0].at", "outside the solid", "10 mm"]),
+    ("probe-duplicate-name", appender("probes", {"name": "A", "at": [100, 100]}),
+     ["probes[1].name", "already used by probes[0]"]),
+]
+
+
+@pytest.mark.parametrize("change, expected", [c[1:] for c in CASES], ids=[c[0] for c in CASES])
+def test_each_rule_has_a_message_naming_file_table_and_key(change, expected):
+    text = text_of(change(base()))
+    with pytest.raises(ModelError) as info:
+        M.loads(text, "detail.toml")
+    message = str(info.value)
+    assert message.startswith("detail.toml: "), message
+    for part in expected:
+        assert part in message, f"{part!r} not in {message!r}"
+    assert "Traceback" not in message
+
+
+@pytest.mark.parametrize("text, expected", [
+    ("", "empty"),
+    ("# nothing but a comment\n\n", "empty"),
+    ("format = 1\nlength_unit = mm\n", "not a valid TOML file"),
+    ("format = 1\n[[regions]\n", "not a valid TOML file"),
+], ids=["empty", "comment-only", "bare-word", "broken-header"])
+def test_text_that_is_not_a_model(text, expected):
+    with pytest.raises(ModelError, match=re.escape(f"detail.toml: ") + ".*" + expected):
+        M.loads(text, "detail.toml")
+
+
+def test_read_missing_file_names_it(tmp_path):
+    path = tmp_path / "no-such.toml"
+    with pytest.raises(ModelError, match=re.escape(str(path)) + ": no such model file"):
+        M.read(path)
+
+
+def test_read_folder_and_binary_file(tmp_path):
+    with pytest.raises(ModelError, match="is a folder"):
+        M.read(tmp_path)
+    binary = tmp_path / "detail.toml"
+    binary.write_bytes(b"format = 1\n\xff\xfe\x00")
+    with pytest.raises(ModelError, match=re.escape(str(binary)) + ": not a text file"):
+        M.read(binary)
+
+
+def test_read_names_the_file_in_rule_messages(tmp_path):
+    data = base()
+    data["regions"][1]["material"] = "concrte"
+    path = tmp_path / "detail.toml"
+    path.write_text(text_of(data), encoding="utf-8")
+    with pytest.raises(ModelError) as info:
+        M.read(path)
+    assert str(info.value) == (
+        f"{path}: regions[1].material: material 'concrte' is not defined "
+        "(defined: concrete, insulation, cavity); did you mean 'concrete'?")
+
+
+# ---------------------------------------------------------------------------
+# In-memory models (geometry scripts) go through the same rules
+# ---------------------------------------------------------------------------
+
+def memory_model(**changes) -> Model:
+    fields = dict(
+        length_unit="mm",
+        materials={"concrete": Material("concrete", 2.3),
+                   "insulation": Material("insulation", 0.035)},
+        regions=[Region.rectangle("concrete", 0, 0, 200, 1000),
+                 Region.rectangle("insulation", 200, 0, 360, 1000)],
+        environments=[Environment("inside", 20.0, "interior"),
+                      Environment("outside", -5.0, "exterior")],
+        surfaces=[Surface("inside", 0.13, ((0, 0), (0, 1000)), 0.25),
+                  Surface("outside", 0.04, ((360, 0), (360, 1000)))],
+        flanking=[Flanking("wall", 1000, u_value=0.2)],
+        probes=[Probe("corner", (360, 1000))],
+        name="Script wall",
+        origin="demo_script.py")
+    fields.update(changes)
+    return Model(**fields)
+
+
+def test_in_memory_model_is_valid_and_validate_is_repeatable():
+    m = memory_model()
+    before = copy.deepcopy(m)
+    M.validate(m)
+    M.validate(m)
+    assert m == before
+
+
+@pytest.mark.parametrize("changes, expected", [
+    (dict(materials={"concrete": Material("concrete", "2.3"),
+                     "insulation": Material("insulation", 0.035)}),
+     "demo_script.py: materials.concrete.conductivity: expected a number"),
+    (dict(materials={"concrete": Material("concrete", 2.3)}),
+     "demo_script.py: regions[1].material: material 'insulation' is not defined"),
+    (dict(regions=[Region.rectangle("concrete", 0, 0, 200, 1000),
+                   Region.rectangle("insulation", 360, 0, 200, 1000)]),
+     "demo_script.py: regions[1].rectangle: x1 (200) must be greater than x0 (360)"),
+    (dict(regions=[Region("concrete", ((0, 0), (200, 0), (200, 1000), (0, 1000)),
+                          shape="rectangle"),
+                   Region("insulation", ((200, 0), (360, 0), (200, 1000), (360, 1000)),
+                          shape="rectangle")]),
+     "demo_script.py: regions[1].rectangle: corners are not those"),
+    (dict(probes=[Probe("P", (400, 0))]), "demo_script.py: probes[0].at: point (400, 0)"),
+    (dict(length_unit="inch"), "demo_script.py: length_unit: unknown unit 'inch'"),
+    (dict(format=2), "demo_script.py: format: unknown format 2"),
+    (dict(flanking=[Flanking("wall", 1000, u_value=True)]),
+     "demo_script.py: flanking[0].u_value: expected a number, got the boolean true"),
+    (dict(materials={"concrete": Material("concrete", 2.3),
+                     "insulation": Material("insulation", 0.035,
+                                            air_layer=AirLayer(25, "horizontal"))}),
+     "demo_script.py: materials.insulation.conductivity: 0.035 does not match"),
+    (dict(materials={"concrete": Material("concrete", 2.3),
+                     "insulation": Material("mineral wool", 0.035)}),
+     "demo_script.py: materials.insulation: is stored under the name"),
+], ids=["string-conductivity", "undefined-material", "flipped-rectangle",
+        "rectangle-corners", "probe-outside", "unit", "format", "boolean-u",
+        "air-layer-mismatch", "material-name-mismatch"])
+def test_in_memory_rules(changes, expected):
+    with pytest.raises(ModelError) as info:
+        M.validate(memory_model(**changes))
+    assert str(info.value).startswith(expected), str(info.value)
+
+
+def test_dumps_refuses_an_invalid_model_and_write_leaves_no_file(tmp_path):
+    bad = memory_model(surfaces=[])
+    target = tmp_path / "out.toml"
+    with pytest.raises(ModelError, match="surfaces: the model has no surfaces"):
+        M.write(bad, target)
+    assert not target.exists()
+
+
+# ---------------------------------------------------------------------------
+# Outline: which surface claims which edge
+# ---------------------------------------------------------------------------
+
+def test_a_path_over_part_of_a_side_claims_just_that_part():
+    data = base()
+    data["surfaces"][0]["path"] = [[0, 0], [0, 400]]
+    data["surfaces"].append({"environment": "outside", "resistance": 0.04,
+                             "path": [[0, 400], [0, 1000]]})
+    m = M.loads(text_of(data), "detail.toml")
+    edges = M.outline_edges(m)
+    claimed = {i: sum(math.dist(e.start, e.end) for e in edges if e.surface == i)
+               for i in range(3)}
+    # lengths follow from the coordinates in the file: 400 mm, 1000 mm, 600 mm
+    assert claimed == pytest.approx({0: 400.0, 1: 1000.0, 2: 600.0})
+    # outline of a 360 mm x 1000 mm block: 2 (360 + 1000) = 2720 mm in all
+    assert sum(math.dist(e.start, e.end) for e in edges) == pytest.approx(2720.0)
+
+
+def test_path_crossing_the_solid_counts_only_outline_edges():
+    data = base()
+    # runs down the inside face, then straight through the block along y = 0 ... 1000
+    data["surfaces"][0]["path"] = [[0, 1000], [0, 0], [200, 500], [360, 500]]
+    m = M.loads(text_of(data), "detail.toml")
+    on_inside = [e for e in M.outline_edges(m) if e.surface == 0]
+    assert sum(math.dist(e.start, e.end) for e in on_inside) == pytest.approx(1000.0)
+
+
+def test_hole_edges_are_outline_edges():
+    # a square frame of four bars around a 200 mm x 200 mm hole (a fictional duct)
+    data = base()
+    data["regions"] = [
+        {"material": "concrete", "rectangle": [0, 0, 400, 100]},
+        {"material": "concrete", "rectangle": [0, 300, 400, 400]},
+        {"material": "concrete", "rectangle": [0, 100, 100, 300]},
+        {"material": "concrete", "rectangle": [300, 100, 400, 300]},
+    ]
+    data["surfaces"] = [
+        {"environment": "inside", "resistance": 0.13,
+         "path": [[100, 100], [300, 100], [300, 300], [100, 300], [100, 100]]},
+        {"environment": "outside", "resistance": 0.04,
+         "path": [[0, 0], [400, 0], [400, 400], [0, 400], [0, 0]]},
+    ]
+    data["probes"] = [{"name": "hole corner", "at": [100, 100]}]
+    m = M.loads(text_of(data), "detail.toml")
+    edges = M.outline_edges(m)
+    assert all(e.surface is not None for e in edges)
+    assert sum(math.dist(e.start, e.end) for e in edges if e.surface == 0) == pytest.approx(800)
+
+
+def test_probe_on_the_outline_within_tolerance_is_inside():
+    # tolerance is 1e-6 of the largest dimension (1000 mm): 0.001 mm
+    data = base()
+    data["probes"] = [{"name": "on edge", "at": [360, 1000]},
+                      {"name": "a hair outside", "at": [360.0005, 500]}]
+    M.loads(text_of(data), "detail.toml")
+    data["probes"] = [{"name": "just outside", "at": [360.01, 500]}]
+    with pytest.raises(ModelError, match=r"probes\[0\]\.at"):
+        M.loads(text_of(data), "detail.toml")
+
+
+def test_pieces_each_touched_by_a_surface_are_allowed():
+    data = base()
+    data["regions"].append({"material": "concrete", "rectangle": [1000, 0, 1200, 100]})
+    data["surfaces"].append({"environment": "outside", "resistance": 0.04,
+                             "path": [[1200, 0], [1200, 100]]})
+    M.loads(text_of(data), "detail.toml")
+
+
+# ---------------------------------------------------------------------------
+# Round trips: read(write(m)) == m
+# ---------------------------------------------------------------------------
+
+def rich_model() -> Model:
+    unit = "mm"
+    cavity = M.air_layer_material("cavity 50", AirLayer(50, "upward", (0.9, 0.2)), unit,
+                                  source="ISO 6946 Annex D")
+    return Model(
+        length_unit=unit,
+        materials={"concrete": Material("concrete", 2.3, 'fictional "C30" mix, λ from catalogue'),
+                   "cavity 50": cavity,
+                   "eps": Material("eps", 0.1 + 0.2)},        # 0.30000000000000004 exactly
+        regions=[Region.rectangle("concrete", 0, 0, 200, 1000, heat_source=12.5),
+                 Region.polygon("eps", [(200, 0), (360, 0), (360, 1000), (200, 1000)]),
+                 Region.polygon("cavity 50", [(0, 1000), (360, 1000), (360, 1050),
+                                              (300, 1050.5), (250, 1050.25), (200, 1050.125),
+                                              (150, 1050.0625), (100, 1050.03125),
+                                              (0, 1050)])],
+        environments=[Environment("inside", 20.0, "interior"),
+                      Environment("outside", -7.5, "exterior"),
+                      Environment("unheated", 5.0, "exterior")],
+        surfaces=[Surface("inside", 0.13, ((0, 0), (0, 1050)), 0.25),
+                  Surface("outside", 0.04, ((360, 0), (360, 1050))),
+                  Surface("unheated", 0.0, ((0, 0), (360, 0)))],
+        flanking=[Flanking("wall", 1050, u_value=0.2),
+                  Flanking("floor", 360.0, layers=(Layer("concrete", 200), Layer("eps", 160)),
+                           surface_resistances=(0.17, 0.04)),
+                  Flanking("roof", 0.0, layers=(Layer("cavity 50", 50),))],
+        probes=[Probe("P1", (100, 500)), Probe("P2", (360, 1050))],
+        name="Rich ünïcode model",
+        origin="rich_script.py")
+
+
+def rich_model_in_metres_unnamed() -> Model:
+    m = rich_model()
+    m.length_unit, m.name = "m", None
+    # the same coordinates read as metres; the air layer is then 50 m thick and
+    # its equivalent conductivity differs, so the material is rebuilt
+    m.materials["cavity 50"] = M.air_layer_material(
+        "cavity 50", m.materials["cavity 50"].air_layer, "m")
+    return m
+
+
+@pytest.mark.parametrize("make", [rich_model,
+                                  lambda: M.loads(text_of(BASE), "detail.toml"),
+                                  rich_model_in_metres_unnamed],
+                         ids=["rich", "base", "metres-unnamed"])
+def test_write_then_read_gives_an_equal_model(tmp_path, make):
+    m = make()
+    path = tmp_path / "copy.toml"
+    M.write(m, path)
+    back = M.read(path)
+    assert back == m
+    assert back.origin == str(path)
+    # writing again gives the same text
+    assert M.dumps(back) == path.read_text(encoding="utf-8")
+
+
+def test_written_file_follows_the_format():
+    text = M.dumps(rich_model())
+    assert "rectangle = [0, 0, 200, 1000]" in text
+    assert 'polygon = [[200, 0], [360, 0], [360, 1000], [200, 1000]]' in text
+    assert "heat_source = 12.5" in text and text.count("heat_source") == 1
+    assert text.count("resistance_surface_temperature") == 1
+    assert "conductivity = 0.30000000000000004" in text
+    assert '[materials."cavity 50"]' in text
+    assert "air_layer = { thickness = 50, direction = \"upward\", emissivities = [0.9, 0.2] }" in text
+    # an air-layer material is written by its air layer, not its conductivity
+    cavity_table = text.split('[materials."cavity 50"]')[1].split("[")[0]
+    assert "conductivity" not in cavity_table
+    assert "surface_resistances = [0.17, 0.04]" in text
+    assert '{ material = "concrete", thickness = 200 },' in text
+    assert 'layers = [{ material = "cavity 50", thickness = 50 }]' in text
+    assert "name =" in M.dumps(rich_model()) and "name =" not in M.dumps(
+        rich_model_in_metres_unnamed()).split("[materials")[0]
+
+
+def test_docs_examples_read():
+    text = DOCS.read_text(encoding="utf-8")
+    blocks = re.findall(r"```toml\n(.*?)```", text, re.S)
+    assert len(blocks) >= 2
+    for block in blocks:
+        m = M.loads(block, "docs/model-format.md")
+        assert M.loads(M.dumps(m)) == m
+
+
+# ---------------------------------------------------------------------------
+# Physics of the added air_layer key and of flanking U-values
+# ---------------------------------------------------------------------------
+
+# ISO 6946:2017 Table 8, thermal resistance of unventilated air layers with
+# high-emissivity surfaces [m²·K/W], values from memory (printed to two
+# decimals, so the tolerance is half a unit in the last place plus a margin).
+#
+# For thin layers with downward heat flow the table rests on ha = 0.025/d,
+# the conduction limit, which ISO 6946 Annex D (from memory) applies in every
+# direction: ha = max(0.12·d^-0.44, 0.025/d) downward. bridgecalc.layers
+# currently omits that limit for downward flow, so those rows fail; they are
+# marked xfail (strict) until layers.py is corrected.
+_DOWNWARD_LIMIT = pytest.mark.xfail(
+    strict=True, reason="layers.air_layer_resistance: downward ha lacks max(..., 0.025/d)")
+ISO_6946_TABLE_8 = [
+    (10, "horizontal", 0.15),
+    (25, "horizontal", 0.18),
+    (100, "horizontal", 0.18),
+    (10, "upward", 0.15),
+    (50, "upward", 0.16),
+    pytest.param(10, "downward", 0.15, marks=_DOWNWARD_LIMIT),
+    pytest.param(25, "downward", 0.19, marks=_DOWNWARD_LIMIT),
+    (50, "downward", 0.21),
+    (100, "downward", 0.22),
+    (300, "downward", 0.23),
+]
+
+
+@pytest.mark.parametrize("thickness_mm, direction, table_resistance", ISO_6946_TABLE_8)
+def test_air_layer_material_matches_iso_6946_table(thickness_mm, direction, table_resistance):
+    data = base()
+    data["materials"]["cavity"]["air_layer"] = {"thickness": thickness_mm, "direction": direction}
+    m = M.loads(text_of(data), "detail.toml")
+    mat = m.materials["cavity"]
+    assert mat.air_layer == AirLayer(float(thickness_mm), direction, (0.9, 0.9))
+    resistance = thickness_mm * 1e-3 / mat.conductivity
+    assert resistance == pytest.approx(table_resistance, abs=0.006)
+
+
+def test_air_layer_thickness_follows_length_unit():
+    data = base()
+    data["length_unit"] = "m"
+    for region in data["regions"]:
+        key = "rectangle" if "rectangle" in region else "polygon"
+        region[key] = (
+            [c / 1000 for c in region[key]] if key == "rectangle"
+            else [[x / 1000, y / 1000] for x, y in region[key]])
+    for surface in data["surfaces"]:
+        surface["path"] = [[x / 1000, y / 1000] for x, y in surface["path"]]
+    for flank in data["flanking"]:
+        flank["length"] /= 1000
+    data["flanking"][1]["layers"][0]["thickness"] = 0.2
+    data["probes"][0]["at"] = [0, 0.5]
+    data["materials"]["cavity"]["air_layer"]["thickness"] = 0.025
+    in_m = M.loads(text_of(data), "detail.toml")
+    in_mm = M.loads(text_of(base()), "detail.toml")
+    assert in_m.materials["cavity"].conductivity == pytest.approx(
+        in_mm.materials["cavity"].conductivity, rel=1e-12)
+
+
+def test_flanking_u_value_given():
+    m = M.loads(text_of(base()), "detail.toml")
+    assert M.flanking_u_value(m, m.flanking[0]) == 0.21
+
+
+def test_flanking_u_value_from_layers_hand_calculation():
+    # Hand calculation, ISO 6946:2017 Formulae (7)-(9):
+    # R = 0.200/2.3 + 0.160/0.035 = 0.086957 + 4.571429 = 4.658385 m²·K/W
+    # U = 1 / (0.13 + 4.658385 + 0.04) = 1 / 4.828385 = 0.207108 W/(m²·K)
+    m = rich_model()
+    floor = Flanking("wall", 1000, layers=(Layer("concrete", 200), Layer("eps", 160)))
+    m.materials["eps"] = Material("eps", 0.035)
+    assert M.flanking_u_value(m, floor) == pytest.approx(0.207108, abs=2e-6)
+    # the written surface resistances replace the default (0.17 + 0.04):
+    # U = 1 / (0.17 + 4.658385 + 0.04) = 0.205407 W/(m²·K)
+    floor2 = Flanking("floor", 360, layers=floor.layers, surface_resistances=(0.17, 0.04))
+    assert M.flanking_u_value(m, floor2) == pytest.approx(0.205407, abs=2e-6)
+
+
+def test_flanking_layer_of_air_uses_iso_6946_table():
+    # A 100 mm horizontal air layer alone: R ≈ 0.18 (ISO 6946:2017 Table 8, from
+    # memory), so U ≈ 1 / (0.13 + 0.18 + 0.04) = 2.86 W/(m²·K), to the rounding of
+    # the table (±0.005 in R gives ±0.04 in U).
+    data = base()
+    data["materials"]["cavity"]["air_layer"] = {"thickness": 100, "direction": "horizontal"}
+    data["flanking"][1]["layers"] = [{"material": "cavity", "thickness": 100}]
+    m = M.loads(text_of(data), "detail.toml")
+    assert M.flanking_u_value(m, m.flanking[1]) == pytest.approx(1 / 0.35, abs=0.05)
