@@ -505,11 +505,11 @@ def loads(text: str, origin: str = "<string>") -> Model:
         heat_source = float(heat_source) if _is_real(heat_source) else heat_source
         if "rectangle" in table:
             rect = table["rectangle"]
-            if (not _is_sequence(rect) or len(rect) != 4
-                    or not all(_is_real(c) for c in rect)):
+            if not _is_sequence(rect) or len(rect) != 4:
                 check.fail(f"{where}.rectangle",
                            f"expected four numbers [x0, y0, x1, y1], got {_describe(rect)}")
-            x0, y0, x1, y1 = (float(c) for c in rect)
+            x0, y0, x1, y1 = (check.number(c, f"{where}.rectangle[{k}]")
+                              for k, c in enumerate(rect))
             regions.append(Region.rectangle(material, x0, y0, x1, y1, heat_source))
         else:
             vertices = check.points(table["polygon"], f"{where}.polygon", 3, "a polygon")
@@ -877,8 +877,8 @@ def _check_flanking(check: _Checker, model: Model):
                            "only used with layers; with u_value given, leave it out")
             continue
         if not _is_sequence(flank.layers) or len(flank.layers) == 0:
-            check.fail(f"{where}.layers", f"expected at least one layer, got "
-                                          f"{_describe(flank.layers)}")
+            got = "an empty list" if _is_sequence(flank.layers) else _describe(flank.layers)
+            check.fail(f"{where}.layers", f"expected at least one layer, got {got}")
         for j, layer in enumerate(flank.layers):
             lwhere = f"{where}.layers[{j}]"
             if not isinstance(layer, Layer):

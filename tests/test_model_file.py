@@ -134,6 +134,8 @@ CASES = [
     ("temperature-boolean", setter("environments", 0, "temperature", True),
      ["environments[0].temperature", "boolean"]),
     ("rectangle-strings", setter("regions", 0, "rectangle", ["0", 0, 200, 1000]),
+     ["regions[0].rectangle[0]", "expected a number", "string '0'"]),
+    ("rectangle-three-numbers", setter("regions", 0, "rectangle", [0, 0, 200]),
      ["regions[0].rectangle", "four numbers"]),
     ("polygon-point-wrong", setter("regions", 1, "polygon", [[200, 0], [360], [360, 1000]]),
      ["regions[1].polygon[1]", "point"]),
