@@ -90,7 +90,7 @@ def air_layer_resistance(thickness: float, direction: str = "horizontal",
 
     R = 1 / (ha + E·hr0), ISO 6946:2017, Annex D, Formulae (D.1)–(D.4)
     (from memory): ha = max(1.25, 0.025/d) for horizontal heat flow,
-    max(1.95, 0.025/d) upward, 0.12·d^(−0.44) downward (d in m);
+    max(1.95, 0.025/d) upward, max(0.12·d^(−0.44), 0.025/d) downward (d in m);
     E = 1/(1/ε1 + 1/ε2 − 1); hr0 = 4σTm³.
 
     Parameters
@@ -118,7 +118,7 @@ def air_layer_resistance(thickness: float, direction: str = "horizontal",
     elif direction == "upward":
         ha = max(1.95, 0.025 / thickness)
     else:
-        ha = 0.12 * thickness ** -0.44
+        ha = max(0.12 * thickness ** -0.44, 0.025 / thickness)
     emittance = 1.0 / (1.0 / e1 + 1.0 / e2 - 1.0)
     return 1.0 / (ha + emittance * radiative_coefficient(mean_temperature))
 

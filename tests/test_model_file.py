@@ -546,19 +546,15 @@ def test_docs_examples_read():
 #
 # For thin layers with downward heat flow the table rests on ha = 0.025/d,
 # the conduction limit, which ISO 6946 Annex D (from memory) applies in every
-# direction: ha = max(0.12·d^-0.44, 0.025/d) downward. bridgecalc.layers
-# currently omits that limit for downward flow, so those rows fail; they are
-# marked xfail (strict) until layers.py is corrected.
-_DOWNWARD_LIMIT = pytest.mark.xfail(
-    strict=True, reason="layers.air_layer_resistance: downward ha lacks max(..., 0.025/d)")
+# direction: ha = max(0.12·d^-0.44, 0.025/d) downward.
 ISO_6946_TABLE_8 = [
     (10, "horizontal", 0.15),
     (25, "horizontal", 0.18),
     (100, "horizontal", 0.18),
     (10, "upward", 0.15),
     (50, "upward", 0.16),
-    pytest.param(10, "downward", 0.15, marks=_DOWNWARD_LIMIT),
-    pytest.param(25, "downward", 0.19, marks=_DOWNWARD_LIMIT),
+    (10, "downward", 0.15),
+    (25, "downward", 0.19),
     (50, "downward", 0.21),
     (100, "downward", 0.22),
     (300, "downward", 0.23),
