@@ -163,9 +163,10 @@ def materials(*names: str, extra: dict[str, tuple[float, str]] | None = None
     ----------
     *names : str
         Keys of :data:`MATERIALS_TABLE`.
-    extra : dict of str to (float, str), optional
-        Further materials, name -> (λ [W/(m·K)], source), e.g. an equivalent
-        block whose λ is a parameter.
+    extra : dict, optional
+        Further materials, name -> (λ [W/(m·K)], source) or a ready
+        :class:`Material` (e.g. an air layer), such as an equivalent block
+        whose λ is a parameter.
 
     Returns
     -------
@@ -175,8 +176,12 @@ def materials(*names: str, extra: dict[str, tuple[float, str]] | None = None
     for name in names:
         conductivity, source = MATERIALS_TABLE[name]
         table[name] = Material(name, conductivity, source)
-    for name, (conductivity, source) in (extra or {}).items():
-        table[name] = Material(name, float(conductivity), source)
+    for name, value in (extra or {}).items():
+        if isinstance(value, Material):
+            table[name] = value
+        else:
+            conductivity, source = value
+            table[name] = Material(name, float(conductivity), source)
     return table
 
 

@@ -2,7 +2,7 @@
 
 Layers, interior to exterior: plasterboard; an unventilated service void
 (air layer, equivalent conductivity λ = d/R with R from ISO 6946 Annex D,
-from memory, via :func:`bridgecalc.layers.air_layer_conductivity`); plywood;
+from memory, via :func:`bridgecalc.model.air_layer_material`); plywood;
 the stud zone (mineral wool between softwood studs); a mineral-wool board
 outside. The cladding and its ventilated cavity are left out and the outer
 face of the board is taken as the exterior surface (a simplification).
@@ -25,8 +25,7 @@ Defaults: the fictional Tarnwick Yard top-floor infill, see ``docs/scenario.md``
 from bridgecalc.junctions import (EXTERIOR, assemble, check_parameters,
                                   flanking_from_stack, materials, require,
                                   stack_regions, surface_along)
-from bridgecalc.layers import air_layer_conductivity
-from bridgecalc.model import Region
+from bridgecalc.model import AirLayer, Region, air_layer_material
 
 SCRIPT = "timber_stud"
 DIMENSION_SYSTEM = "external"
@@ -71,7 +70,9 @@ def build(**params):
     require(width < spacing, SCRIPT, "stud_width_mm",
             f"({width} mm) must be less than stud_spacing_mm ({spacing} mm)")
     void = p["service_void_mm"]
-    air = air_layer_conductivity(void / 1000.0, "horizontal")
+    air = air_layer_material("service_void", AirLayer(void, "horizontal"), "mm",
+                             f"unventilated air layer {void:g} mm, horizontal heat "
+                             "flow, ISO 6946 Annex D (from memory)")
 
     stack = [("plasterboard", p["lining_thickness_mm"]), ("service_void", void),
              ("plywood", p["sheathing_thickness_mm"]),
@@ -91,7 +92,5 @@ def build(**params):
     return assemble("Timber stud with service void, Tarnwick Yard infill demo",
                     DIMENSION_SYSTEM,
                     materials("plasterboard", "plywood", "mineral_wool", "softwood",
-                              extra={"service_void": (
-                                  air, f"unventilated air layer {void:g} mm, "
-                                  "horizontal heat flow, ISO 6946 Annex D (from memory)")}),
+                              extra={"service_void": air}),
                     regions, surfaces, flanking, probes, script=SCRIPT)
