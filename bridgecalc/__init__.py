@@ -13,10 +13,12 @@ temperature factor fRsi::
 from .errors import BridgecalcError, ModelError
 from .model import (Environment, Flanking, Layer, Material, Model, Probe, Region,
                     Surface)
+from .pipeline import Result, load, run
 
 __version__ = "0.1.0"
 
 __all__ = [
     "BridgecalcError", "ModelError", "Environment", "Flanking", "Layer",
-    "Material", "Model", "Probe", "Region", "Surface", "__version__",
+    "Material", "Model", "Probe", "Region", "Surface", "Result", "load", "run",
+    "__version__",
 ]
