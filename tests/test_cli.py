@@ -1,0 +1,211 @@
+"""The command line: run, check, demo, --set, and bad input (exit 2, nothing written)."""
+
+import json
+import subprocess
+import sys
+import textwrap
+
+import pytest
+
+from bridgecalc.cli import main
+
+from conftest import GEOMETRIES
+
+GOOD = textwrap.dedent("""\
+    format = 1
+    name = "Plate"
+    length_unit = "mm"
+    [materials.concrete]
+    conductivity = 2.3
+    [materials.insulation]
+    conductivity = 0.035
+    [materials.steel]
+    conductivity = 50.0
+    [[regions]]
+    material = "concrete"
+    rectangle = [0, 0, 200, 2000]
+    [[regions]]
+    material = "insulation"
+    rectangle = [200, 0, 360, 2000]
+    [[regions]]
+    material = "steel"
+    rectangle = [200, 995, 360, 1005]
+    [[environments]]
+    name = "inside"
+    temperature = 20.0
+    kind = "interior"
+    [[environments]]
+    name = "outside"
+    temperature = 0.0
+    kind = "exterior"
+    [[surfaces]]
+    environment = "inside"
+    resistance = 0.13
+    resistance_surface_temperature = 0.25
+    path = [[0, 0], [0, 2000]]
+    [[surfaces]]
+    environment = "outside"
+    resistance = 0.04
+    path = [[360, 0], [360, 2000]]
+    [[flanking]]
+    name = "wall"
+    u_value = 0.2
+    length = 2000
+    [[probes]]
+    name = "A"
+    at = [0, 1000]
+    """)
+
+
+def write(tmp_path, text, name="detail.toml"):
+    path = tmp_path / name
+    path.write_text(text, encoding="utf-8")
+    return path
+
+
+def test_run_writes_results(tmp_path, capsys):
+    model = write(tmp_path, GOOD)
+    out = tmp_path / "out"
+    assert main(["run", str(model), "--out", str(out)]) == 0
+    data = json.loads((out / "results.json").read_text())
+    assert data["name"] == "Plate" and data["length_unit"] == "mm"
+    hf = data["heat_flow_case"]
+    assert hf["psi"] == pytest.approx(hf["coupling_coefficient"] - 0.2 * 2.0, abs=1e-12)
+    # a steel plate through the insulation is a real thermal bridge
+    assert hf["psi"] > 0.05
+    assert (out / "report.html").exists()
+    printed = capsys.readouterr().out
+    assert "Ψ" in printed and "fRsi" in printed and "practitioner" in printed
+
+
+def test_default_out_is_a_new_folder_named_after_the_model(tmp_path, monkeypatch):
+    model = write(tmp_path, GOOD)
+    monkeypatch.chdir(tmp_path)
+    assert main(["run", str(model)]) == 0
+    assert (tmp_path / "detail" / "results.json").exists()
+    assert main(["run", str(model)]) == 0
+    assert (tmp_path / "detail-2" / "results.json").exists()
+
+
+def test_run_script_with_set(tmp_path):
+    out = tmp_path / "b"
+    assert main(["run", str(GEOMETRIES / "balcony.py"), "--out", str(out),
+                 "--set", "thermal_break=false"]) == 0
+    without = json.loads((out / "results.json").read_text())["heat_flow_case"]["psi"]
+    assert main(["run", str(GEOMETRIES / "balcony.py"), "--out", str(out),
+                 "--set", "thermal_break=true"]) == 0
+    with_break = json.loads((out / "results.json").read_text())["heat_flow_case"]["psi"]
+    # a structural thermal break lowers Ψ (ISO 14683 defaults; common practice)
+    assert with_break < without
+
+
+BAD_MODELS = {
+    "unknown format": (GOOD.replace("format = 1", "format = 7"), "format"),
+    "missing length_unit": (GOOD.replace('length_unit = "mm"\n', ""), "length_unit"),
+    "unknown length_unit": (GOOD.replace('length_unit = "mm"', 'length_unit = "ft"'),
+                            "length_unit"),
+    "unknown key": (GOOD.replace("conductivity = 2.3", "conductivity = 2.3\nconductivty = 2"),
+                    "conductivty"),
+    "undefined material": (GOOD.replace('material = "steel"', 'material = "stele"'),
+                           "regions[2].material"),
+    "self-intersecting polygon": (GOOD.replace(
+        "rectangle = [200, 995, 360, 1005]",
+        "polygon = [[200, 995], [360, 1005], [360, 995], [200, 1005]]"), "regions[2]"),
+    "degenerate polygon": (GOOD.replace(
+        "rectangle = [200, 995, 360, 1005]", "polygon = [[200, 995], [360, 995], [300, 995]]"),
+        "regions[2]"),
+    "non-finite number": (GOOD.replace("conductivity = 50.0", "conductivity = nan"),
+                          "materials.steel.conductivity"),
+    "conductivity <= 0": (GOOD.replace("conductivity = 50.0", "conductivity = 0"),
+                          "materials.steel.conductivity"),
+    "negative resistance": (GOOD.replace("resistance = 0.04", "resistance = -0.04"),
+                            "surfaces[1].resistance"),
+    "undefined environment": (GOOD.replace('environment = "outside"', 'environment = "out"'),
+                              "surfaces[1].environment"),
+    "path on no outline edge": (GOOD.replace("path = [[360, 0], [360, 2000]]",
+                                             "path = [[100, 0], [100, 2000]]"),
+                                "surfaces[1].path"),
+    "two surfaces on one edge": (GOOD.replace("path = [[360, 0], [360, 2000]]",
+                                              "path = [[0, 0], [0, 2000]]"), "surfaces[1]"),
+    "no exterior environment": (GOOD.replace('kind = "exterior"', 'kind = "interior"'),
+                                "environments"),
+    "probe outside the solid": (GOOD.replace("at = [0, 1000]", "at = [-50, 1000]"),
+                                "probes[0].at"),
+    "pieces no surface touches": (GOOD + textwrap.dedent("""\
+        [[regions]]
+        material = "steel"
+        rectangle = [1000, 0, 1100, 100]
+        """), "regions"),
+    "not TOML": ("this is [not toml", "TOML"),
+    "empty file": ("", "empty"),
+}
+
+
+@pytest.mark.parametrize("case", list(BAD_MODELS))
+def test_bad_model_exit_2_nothing_written(tmp_path, capsys, case):
+    text, where = BAD_MODELS[case]
+    model = write(tmp_path, text)
+    out = tmp_path / "out"
+    assert main(["run", str(model), "--out", str(out)]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("error: ")
+    assert "detail.toml" in err, err
+    assert where.lower() in err.lower(), err
+    assert "Traceback" not in err
+    assert not out.exists()
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["detail.toml"]
+
+
+@pytest.mark.parametrize("argv, needle", [
+    (["run", "missing.toml"], "missing.toml"),
+    (["run", "{script}", "--set", "no_such_parameter=1"], "no_such_parameter"),
+    (["run", "{script}", "--set", "thermal_break=maybe"], "thermal_break"),
+    (["run", "{script}", "--set", "insulation_thickness_mm=-10"], "insulation_thickness_mm"),
+    (["run", "{model}", "--set", "x=1"], "--set"),
+    (["run", "{model}", "--refine", "0"], "--refine"),
+])
+def test_bad_arguments_exit_2(tmp_path, capsys, monkeypatch, argv, needle):
+    monkeypatch.chdir(tmp_path)
+    model = write(tmp_path, GOOD)
+    argv = [a.format(script=GEOMETRIES / "balcony.py", model=model) for a in argv]
+    assert main(argv) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("error: ") and needle in err
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["detail.toml"]
+
+
+def test_three_temperatures_exit_2(tmp_path, capsys):
+    text = GOOD + textwrap.dedent("""\
+        [[environments]]
+        name = "stair"
+        temperature = 10.0
+        kind = "interior"
+        """)
+    model = write(tmp_path, text)
+    assert main(["run", str(model), "--out", str(tmp_path / "o")]) == 2
+    assert "two-temperature" in capsys.readouterr().err
+    assert not (tmp_path / "o").exists()
+
+
+def test_check_prints_table_and_passes(capsys):
+    assert main(["check"]) == 0
+    out = capsys.readouterr().out
+    for word in ("case", "source", "value", "reference", "deviation", "tolerance", "pass",
+                 "iso10211-case2", "ISO 10211"):
+        assert word in out
+    assert " 0 failed" in out
+
+
+def test_demo_writes_report(tmp_path, monkeypatch, capsys):
+    monkeypatch.chdir(tmp_path)
+    assert main(["demo"]) == 0
+    out = capsys.readouterr().out
+    assert "report:" in out
+    report = tmp_path / "bridgecalc-demo" / "report.html"
+    assert report.exists() and "practitioner" in report.read_text(encoding="utf-8")
+
+
+def test_python_dash_m(tmp_path):
+    done = subprocess.run([sys.executable, "-m", "bridgecalc", "run", "nothing.toml"],
+                          cwd=tmp_path, capture_output=True, text=True)
+    assert done.returncode == 2 and done.stderr.startswith("error: ")
