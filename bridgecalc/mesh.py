@@ -253,8 +253,9 @@ def _set_size_field(gmsh, model, options, polygons, surface_tags, owner, curve_s
     # Each part: elements no larger than its thickness / cells_across_part.
     part_size = {}
     for s in surface_tags:
-        part_size[s] = min(h_max, _fragment_thickness(gmsh, s) / options.cells_across_part
-                           / options.refinement)
+        h = _fragment_thickness(gmsh, s) / options.cells_across_part / options.refinement
+        # half-octave bins, rounded down (never coarser), so that few fields serve
+        part_size[s] = h_max if h >= h_max else 2.0 ** (math.floor(2 * math.log2(h)) / 2)
     by_size: dict[float, list[int]] = {}
     for s, h in part_size.items():
         by_size.setdefault(h, []).append(s)
@@ -265,6 +266,12 @@ def _set_size_field(gmsh, model, options, polygons, surface_tags, owner, curve_s
         field.setNumber(f, "VIn", h)
         field.setNumber(f, "VOut", 1e22)
         fields.append(f)
+        if h < h_max:
+            # Grade away from a fine part as from a corner: a step from its
+            # size to its neighbour's would leave slivers along its edges.
+            curves = sorted({abs(c) for _, c in gmsh.model.getBoundary(
+                [(2, t) for t in tags], combined=False, oriented=False)})
+            fields.append(_graded(field, "CurvesList", curves, h, h_max, options.growth))
 
     # Every geometric corner: graded refinement, binned by size (few fields).
     point_size: dict[int, float] = {}
