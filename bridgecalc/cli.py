@@ -45,6 +45,27 @@ def _parser() -> argparse.ArgumentParser:
     demo = sub.add_parser("demo", help="compute the shipped demo junction")
     demo.add_argument("--out", metavar="DIR", help="output folder (default: a new "
                       "folder bridgecalc-demo in the current folder)")
+
+    sweep = sub.add_parser(
+        "sweep", help="compute every combination of geometry script parameters",
+        description="Run every combination of the --vary values through a geometry "
+                    "script; write sweep.csv, sweep.png and sweep.txt. Exit 0 when every "
+                    "variant was computed, 1 when some failed (each reported in its "
+                    "row), 2 on bad input (nothing written).")
+    sweep.add_argument("script", metavar="SCRIPT", help="geometry script (.py)")
+    sweep.add_argument("--vary", action="append", required=True,
+                       metavar="NAME=START:STOP:COUNT|NAME=A,B,...",
+                       help="parameter to vary: COUNT evenly spaced values from START "
+                            "to STOP, or a list of values (repeatable)")
+    sweep.add_argument("--set", dest="assignments", metavar="NAME=VALUE", action="append",
+                       default=[], help="fixed parameter for every variant (repeatable)")
+    sweep.add_argument("--out", metavar="DIR", help="output folder (default: a new "
+                       "folder named after the script + '-sweep', in the current folder)")
+    sweep.add_argument("--workers", type=int, metavar="N",
+                       help="local worker processes (default: the cores available)")
+    sweep.add_argument("--scheduler", metavar="ADDRESS",
+                       help="run on the Dask distributed scheduler at ADDRESS "
+                            "(tcp://host:port) instead of local processes")
     return parser
 
 
@@ -126,12 +147,36 @@ def command_check(args) -> int:
     return 0 if all(r.passed for r in rows) else 1
 
 
+def command_sweep(args) -> int:
+    """Exit 0 if every variant was computed, 1 if some failed."""
+    import time
+
+    from . import scripts
+    from . import sweep as sweeps
+    from .outputs import fresh_folder
+    source = Path(args.script)
+    if source.suffix != ".py":
+        raise BridgecalcError(f"{source}: sweep needs a geometry script (.py)")
+    module = scripts.load_module(source)
+    vary = sweeps.parse_vary(module, args.vary, source)
+    fixed = scripts.parse_assignments(module, args.assignments, source)
+    if args.workers is not None and args.workers < 1:
+        raise BridgecalcError(f"--workers must be at least 1, got {args.workers}")
+    out_dir = Path(args.out) if args.out else fresh_folder(Path.cwd() / f"{source.stem}-sweep")
+    start = time.perf_counter()
+    rows = sweeps.sweep(source, vary, workers=args.workers, scheduler=args.scheduler,
+                        base_params=fixed, progress=True)
+    sweeps.write_sweep(rows, out_dir, source, vary, fixed)
+    print(sweeps.summary(rows, out_dir, time.perf_counter() - start))
+    return 0 if all(r.ok for r in rows) else 1
+
+
 def main(argv=None) -> int:
     """Entry point of the ``bridgecalc`` command."""
     args = _parser().parse_args(argv)
     try:
-        return {"run": command_run, "demo": command_demo, "check": command_check}[
-            args.command](args)
+        return {"run": command_run, "demo": command_demo, "check": command_check,
+                "sweep": command_sweep}[args.command](args)
     except BridgecalcError as exc:
         print(f"error: {exc}", file=sys.stderr)
         return 2
