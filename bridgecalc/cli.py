@@ -163,6 +163,8 @@ def command_sweep(args) -> int:
     if args.workers is not None and args.workers < 1:
         raise BridgecalcError(f"--workers must be at least 1, got {args.workers}")
     out_dir = Path(args.out) if args.out else fresh_folder(Path.cwd() / f"{source.stem}-sweep")
+    if out_dir.exists() and not out_dir.is_dir():
+        raise BridgecalcError(f"--out {out_dir}: exists and is not a folder")
     start = time.perf_counter()
     rows = sweeps.sweep(source, vary, workers=args.workers, scheduler=args.scheduler,
                         base_params=fixed, progress=True)

@@ -506,6 +506,11 @@ def csv_text(rows: list[VariantResult]) -> str:
     return buffer.getvalue()
 
 
+LINE_STYLES = ("-", "--", ":", "-.")
+MARKERS = ("o", "s", "^", "D", "v")
+MAX_LEGEND_LINES = 12
+
+
 def _positions(values) -> tuple[dict, list | None]:
     """x position per distinct value: numbers as they are, anything else
     (booleans, text) as categories 0, 1, ... with tick labels."""
@@ -532,7 +537,7 @@ def sweep_figure(rows: list[VariantResult], varied: list[str], title: str = ""):
                   ("f_rsi", "fRsi [-]"))
     with plt.rc_context(figures.STYLE):
         width = max(figures.PAGE_WIDTH, 2.6 * len(varied))
-        fig, axes = plt.subplots(2, len(varied), figsize=(width, 4.6), squeeze=False,
+        fig, axes = plt.subplots(2, len(varied), figsize=(width, 5.6), squeeze=False,
                                  layout="constrained")
         if title:
             fig.suptitle(title, x=0.01, ha="left", fontsize=9.5, fontweight="bold")
@@ -544,13 +549,16 @@ def sweep_figure(rows: list[VariantResult], varied: list[str], title: str = ""):
                 groups.setdefault(tuple(r.params[n] for n in others), []).append(r)
             for row_ax, (attribute, axis_label) in enumerate(quantities):
                 ax = axes[row_ax][col]
-                for key, members in groups.items():
+                for k, (key, members) in enumerate(groups.items()):
                     members = sorted(members, key=lambda m: x_of[m.params[name]])
                     values = [getattr(m, attribute) for m in members]
+                    # line styles and markers as well as colours: readable in grey
                     ax.plot([x_of[m.params[name]] for m in members],
                             [math.nan if v is None else v for v in values],
-                            marker="o", markersize=3, linewidth=1.0,
-                            label=", ".join(f"{n}={_cell(v)}" for n, v in zip(others, key)))
+                            linestyle=LINE_STYLES[k % len(LINE_STYLES)],
+                            marker=MARKERS[k // len(LINE_STYLES) % len(MARKERS)],
+                            markersize=3, linewidth=1.0,
+                            label=", ".join(_cell(v) for v in key))
                 ax.set_ylabel(axis_label)
                 ax.set_xlabel(name)
                 if labels is not None:
@@ -558,11 +566,13 @@ def sweep_figure(rows: list[VariantResult], varied: list[str], title: str = ""):
                 if not ok:
                     ax.text(0.5, 0.5, "no variant computed", transform=ax.transAxes,
                             ha="center", va="center")
-            if 1 < len(groups) <= 8:
-                axes[0][col].legend(fontsize=6)
-            elif len(groups) > 8:
-                axes[0][col].set_title(f"{len(groups)} lines, one per combination "
-                                       f"of the other parameters", fontsize=6.5, loc="left")
+            if 1 < len(groups) <= MAX_LEGEND_LINES:
+                axes[1][col].legend(title=", ".join(others), fontsize=6, title_fontsize=6,
+                                    loc="upper center", bbox_to_anchor=(0.5, -0.3),
+                                    ncols=2 if len(groups) > 4 else 1)
+            elif len(groups) > MAX_LEGEND_LINES:
+                axes[0][col].set_title(f"{len(groups)} lines, one per combination of "
+                                       f"{', '.join(others)}", fontsize=6.5, loc="left")
     return fig
 
 

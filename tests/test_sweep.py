@@ -204,6 +204,16 @@ def test_bad_script_exit_2(tmp_path, monkeypatch, capsys):
     assert sorted(p.name for p in tmp_path.iterdir()) == ["detail.toml"]
 
 
+def test_out_is_a_file_exit_2(tmp_path, capsys):
+    target = tmp_path / "taken"
+    target.write_text("not a folder", encoding="utf-8")
+    code = main(["sweep", str(BALCONY), "--vary", "thermal_break=false,true",
+                 "--out", str(target)])
+    assert code == 2 and "taken" in capsys.readouterr().err
+    assert target.read_text(encoding="utf-8") == "not a folder"
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["taken"]
+
+
 def test_unreachable_scheduler_exit_2(tmp_path, monkeypatch, capsys):
     monkeypatch.chdir(tmp_path)
     monkeypatch.setattr(sweep_module, "CONNECT_TIMEOUT_S", 1.0)
