@@ -1,26 +1,243 @@
-"""Figures from results; reads fields, never recomputes physics."""
+"""Figures for envelope submissions; they plot results and never recompute physics.
+
+Five figures, each a :class:`matplotlib.figure.Figure` built by one function
+and written as PNG (300 dpi), SVG and PDF by :func:`write_figures`:
+
+``materials``
+    the section coloured by conductivity (lighter = more insulating, on a log
+    scale) with one hatch per material; the legend names each material and λ.
+``mesh``
+    the triangles, and the outline drawn by boundary condition (interior,
+    exterior, adiabatic), surfaces labelled S1, S2, ... as in the report.
+``temperature``
+    the surface-temperature case's field with isotherms at a chosen step and
+    the θsi,min point marked.
+``heat_flux``
+    |q| of the heat-flow case per triangle on a log scale, with arrows for the
+    direction of flow.
+``surface_temperature``
+    θ along every run of interior surface against distance along it, with the
+    user's fRsi criterion as a line when one is given.
+
+Every quantity plotted comes from :mod:`bridgecalc.results` (fields, q, the
+surface profiles). Colour maps are perceptually uniform and monotonic in
+lightness (cividis, magma, and a lightness ramp for materials), so figures
+stay readable printed in grey; line styles, not colours alone, tell the
+boundary conditions apart. Lengths are in the model's length unit.
+"""
 
 from __future__ import annotations
 
-import matplotlib
+import math
+import os
+import tempfile
+from pathlib import Path
+
+# matplotlib caches fonts in MPLCONFIGDIR; a read-only home must not stop a run
+if not os.access(os.path.expanduser("~"), os.W_OK) and "MPLCONFIGDIR" not in os.environ:
+    os.environ["MPLCONFIGDIR"] = tempfile.mkdtemp(prefix="bridgecalc-mpl-")
+
+import matplotlib  # noqa: E402
 
 matplotlib.use("Agg")
+import matplotlib.colors as mcolors  # noqa: E402
 import matplotlib.pyplot as plt  # noqa: E402
 import matplotlib.tri as mtri  # noqa: E402
 import numpy as np  # noqa: E402
-from matplotlib.collections import LineCollection  # noqa: E402
+from matplotlib.lines import Line2D  # noqa: E402
+from matplotlib.patches import Patch, PathPatch, Polygon  # noqa: E402
+from matplotlib.path import Path as PlotPath  # noqa: E402
+from matplotlib.ticker import FuncFormatter  # noqa: E402
+from mpl_toolkits.axes_grid1.anchored_artists import AnchoredSizeBar  # noqa: E402
 
-#: Colour map of temperature fields: perceptually uniform, readable in grey.
+from .results import (design_temperatures, heat_flux_density,  # noqa: E402
+                      interior_surface_profiles)
+
+FIGURES = ("materials", "mesh", "temperature", "heat_flux", "surface_temperature")
+FORMATS = ("png", "svg", "pdf")
+PNG_DPI = 300
+#: Resolution of the shaded fields inside SVG and PDF figures; lines and text
+#: there stay vector.
+VECTOR_RASTER_DPI = 150
+
+#: Temperature fields: perceptually uniform, colour-blind safe, monotonic in grey.
 TEMPERATURE_CMAP = "cividis"
+#: Heat-flux magnitude (log scale): perceptually uniform, monotonic in grey.
+HEAT_FLUX_CMAP = "magma"
+
+# -- the house style ------------------------------------------------------------
+INK = "#1d2731"          # text, outlines
+MUTED = "#5f6b73"        # subtitles, secondary lines
+PAPER = "#ffffff"
+VOID = "#eceae4"         # background outside the solid
+INTERIOR = "#9c3d1f"     # interior surfaces (solid line)
+EXTERIOR = "#245a7a"     # exterior surfaces (dashed line)
+ADIABATIC = "#7a7a7a"    # cut-off and symmetry planes (dotted line)
+HATCHES = ("", "////", "....", "\\\\\\\\", "xxx", "---", "|||", "ooo", "+++", "**")
+
+STYLE = {
+    "font.family": "DejaVu Sans",
+    "font.size": 8.0,
+    "axes.titlesize": 8.0,
+    "axes.labelsize": 8.0,
+    "axes.edgecolor": INK,
+    "axes.labelcolor": INK,
+    "axes.linewidth": 0.6,
+    "axes.facecolor": VOID,
+    "axes.spines.top": False,
+    "axes.spines.right": False,
+    "xtick.color": INK,
+    "ytick.color": INK,
+    "xtick.direction": "out",
+    "ytick.direction": "out",
+    "xtick.labelsize": 7.0,
+    "ytick.labelsize": 7.0,
+    "legend.fontsize": 7.0,
+    "legend.frameon": False,
+    "figure.facecolor": PAPER,
+    "savefig.facecolor": PAPER,
+    "text.color": INK,
+    "hatch.linewidth": 0.5,
+    "svg.hashsalt": "bridgecalc",        # stable ids: same input, same SVG
+    "svg.fonttype": "none",              # text stays text: searchable, editable
+    "pdf.fonttype": 3,
+}
+
+PAGE_WIDTH = 5.6         # figure width [in]: fits the text width of an A4 page
 
 
-def material_edges(mesh, material_index) -> np.ndarray:
-    """Mesh edges between triangles of different materials, and the outline.
+#: Layout [in]: margins around the plot, the side panel of tall sections and the
+#: panel below wide ones. Fixed positions instead of a layout engine: cheaper
+#: and the same every run.
+MARGIN_LEFT, MARGIN_RIGHT, MARGIN_TOP, MARGIN_BOTTOM = 0.8, 0.15, 0.62, 0.5
+SIDE_PANEL, BELOW_PANEL = 1.75, 1.05
+MAX_PLOT_HEIGHT = 5.6
+
+
+def _padded_extent(result):
+    """Plot limits [length_unit]: the section's bounding box and a 3 % margin."""
+    xy = result.mesh.nodes / result.model.metres_per_unit
+    lo, hi = xy.min(axis=0), xy.max(axis=0)
+    pad = 0.03 * float((hi - lo).max())
+    return lo - pad, hi + pad
+
+
+def _new_figure(result, title: str, subtitle: str):
+    """A figure sized to the section's aspect, with the house header.
+
+    Returns the figure, the plot axes and the panel box (left, bottom, width,
+    height) [figure fraction] for the legend or colour bar.
+    """
+    lo, hi = _padded_extent(result)
+    span = hi - lo
+    aspect = float(span[1] / max(span[0], 1e-12))
+    side = _side_or_below(aspect)
+    if side:
+        plot_w = PAGE_WIDTH - MARGIN_LEFT - SIDE_PANEL - MARGIN_RIGHT
+        plot_h = plot_w * aspect
+        if plot_h > MAX_PLOT_HEIGHT:
+            plot_h = MAX_PLOT_HEIGHT
+            plot_w = plot_h / aspect
+        fig_h = MARGIN_TOP + plot_h + MARGIN_BOTTOM
+    else:
+        plot_w = PAGE_WIDTH - MARGIN_LEFT - MARGIN_RIGHT - 0.1
+        plot_h = max(plot_w * aspect, 0.25)
+        fig_h = MARGIN_TOP + plot_h + MARGIN_BOTTOM + BELOW_PANEL
+    fig = plt.figure(figsize=(PAGE_WIDTH, fig_h))
+    bottom = MARGIN_BOTTOM + (0.0 if side else BELOW_PANEL)
+    ax = fig.add_axes([MARGIN_LEFT / PAGE_WIDTH, bottom / fig_h,
+                       plot_w / PAGE_WIDTH, plot_h / fig_h])
+    fig.text(0.12 / PAGE_WIDTH, 1 - 0.12 / fig_h, title, ha="left", va="top",
+             fontsize=9.5, fontweight="bold", color=INK)
+    fig.text(0.12 / PAGE_WIDTH, 1 - 0.33 / fig_h, subtitle, ha="left", va="top",
+             fontsize=7.5, color=MUTED)
+    # a thin rule under the header: the house mark
+    fig.add_artist(Line2D([0.12 / PAGE_WIDTH, 1 - 0.12 / PAGE_WIDTH],
+                          [1 - 0.5 / fig_h] * 2, color=INTERIOR, lw=0.8))
+    if side:
+        left = (MARGIN_LEFT + plot_w + 0.2) / PAGE_WIDTH
+        panel = (left, bottom / fig_h, 1 - left - MARGIN_RIGHT / PAGE_WIDTH, plot_h / fig_h)
+    else:
+        panel = (MARGIN_LEFT / PAGE_WIDTH, 0.1 / fig_h, plot_w / PAGE_WIDTH,
+                 (BELOW_PANEL - 0.25) / fig_h)
+    fig._bridgecalc_panel = panel
+    return fig, ax, aspect
+
+
+def _frame(ax, result):
+    """Equal scaling, axes in the model's length unit, limits with a margin."""
+    model = result.model
+    lo, hi = _padded_extent(result)
+    ax.set_xlim(lo[0], hi[0])
+    ax.set_ylim(lo[1], hi[1])
+    ax.set_aspect("equal", adjustable="box", anchor="SW")
+    ax.set_xlabel(f"x [{model.length_unit}]")
+    ax.set_ylabel(f"y [{model.length_unit}]")
+    ax.tick_params(length=3, width=0.5)
+    _scale_bar(ax, result)
+
+
+def nice_length(raw: float) -> float:
+    """1, 2 or 5 times a power of ten, not more than ``raw`` (``raw`` > 0)."""
+    exponent = math.floor(math.log10(raw))
+    best = 10.0 ** exponent
+    for m in (1, 2, 5):
+        if m * 10.0 ** exponent <= raw * (1 + 1e-12):
+            best = m * 10.0 ** exponent
+    return best
+
+
+def nice_step(raw: float) -> float:
+    """1, 2 or 5 times a power of ten, at least ``raw`` (``raw`` > 0)."""
+    exponent = math.floor(math.log10(raw))
+    for m in (1, 2, 5, 10):
+        if m * 10.0 ** exponent >= raw * (1 - 1e-12):
+            return float(m * 10.0 ** exponent)
+    return float(10.0 ** (exponent + 1))
+
+
+def _emptiest_corner(result) -> str:
+    """The plot corner with the fewest triangle centroids, for the scale bar."""
+    xy = result.mesh.nodes / result.model.metres_per_unit
+    centroids = xy[result.mesh.triangles].mean(axis=1)
+    lo, hi = xy.min(axis=0), xy.max(axis=0)
+    span = np.maximum(hi - lo, 1e-12)
+    rel = (centroids - lo) / span
+    corners = {"lower left": (rel[:, 0] < 0.35) & (rel[:, 1] < 0.15),
+               "lower right": (rel[:, 0] > 0.65) & (rel[:, 1] < 0.15),
+               "upper left": (rel[:, 0] < 0.35) & (rel[:, 1] > 0.85),
+               "upper right": (rel[:, 0] > 0.65) & (rel[:, 1] > 0.85)}
+    return min(corners, key=lambda k: (int(corners[k].sum()), k))
+
+
+def _scale_bar(ax, result):
+    model = result.model
+    xy = result.mesh.nodes / model.metres_per_unit
+    width = float(np.ptp(xy[:, 0]))
+    length = nice_length(width / 4)
+    bar = AnchoredSizeBar(ax.transData, length, f"{length:g} {model.length_unit}",
+                          _emptiest_corner(result), pad=0.4, borderpad=0.6, sep=3,
+                          color=INK, frameon=True, size_vertical=0,
+                          fontproperties={"size": 7})
+    bar.patch.set(facecolor="white", alpha=0.85, edgecolor="none")
+    bar.set_gid("scale-bar")
+    ax.add_artist(bar)
+
+
+def _side_or_below(aspect: float) -> bool:
+    """True when legends and colour bars go to the right of a tall section."""
+    return aspect >= 0.8
+
+
+# -- shared geometry --------------------------------------------------------------
+
+def material_edges(mesh, label) -> np.ndarray:
+    """Mesh edges between triangles of different labels, and the outline.
 
     Parameters
     ----------
     mesh : bridgecalc.mesh.Mesh
-    material_index : ndarray, shape (T,)
+    label : ndarray, shape (T,)
         Any per-triangle label; edges where it changes are returned.
 
     Returns
@@ -36,71 +253,540 @@ def material_edges(mesh, material_index) -> np.ndarray:
     key, owner = key[order], owner[order]
     same_as_next = np.all(key[1:] == key[:-1], axis=1)
     keep = np.ones(len(key), dtype=bool)
-    # interior edge shared by two triangles: keep once if the labels differ
     pair = np.flatnonzero(same_as_next)
-    differ = material_index[owner[pair]] != material_index[owner[pair + 1]]
-    keep[pair] = differ
+    keep[pair] = label[owner[pair]] != label[owner[pair + 1]]
     keep[pair + 1] = False
     return key[keep]
 
 
-def isotherm_figure(result, path, isotherm_step=None, dpi=150):
-    """Filled temperature field of the surface-temperature case with isotherms.
+def segments_path(segments, **style) -> PathPatch:
+    """Many line segments as one compound path: one element in SVG and PDF.
+
+    Parameters
+    ----------
+    segments : ndarray, shape (S, 2, 2)
+        Segment end points [length_unit].
+    """
+    segments = np.asarray(segments, dtype=float).reshape(-1, 2, 2)
+    codes = np.tile(np.array([PlotPath.MOVETO, PlotPath.LINETO], dtype=PlotPath.code_type),
+                    len(segments))
+    path = PlotPath(segments.reshape(-1, 2), codes) if len(segments) else PlotPath(
+        np.zeros((1, 2)), [PlotPath.MOVETO])
+    return PathPatch(path, fill=False, **style)
+
+
+def _material_codes(result):
+    """Material names in first-use order, and each triangle's index into them."""
+    names = list(dict.fromkeys(r.material for r in result.model.regions))
+    code_of_region = np.array([names.index(r.material) for r in result.model.regions])
+    return names, code_of_region[result.mesh.region]
+
+
+def material_colours(model) -> dict:
+    """Fill colour and hatch per material: lightness by log λ, hatch by order.
+
+    Lighter means more insulating, so the map reads the same in grey; materials
+    of equal λ are told apart by their hatch.
+    """
+    names = list(dict.fromkeys(r.material for r in model.regions))
+    logs = {n: math.log10(model.materials[n].conductivity) for n in names}
+    lo, hi = min(logs.values()), max(logs.values())
+    ramp = plt.get_cmap("YlGnBu")
+    out = {}
+    for k, n in enumerate(names):
+        t = 0.5 if hi == lo else (logs[n] - lo) / (hi - lo)
+        fill = ramp(0.08 + 0.84 * t)
+        lightness = 0.2126 * fill[0] + 0.7152 * fill[1] + 0.0722 * fill[2]
+        out[n] = {"fill": fill, "hatch": HATCHES[k % len(HATCHES)],
+                  "line": INK if lightness > 0.5 else "white"}
+    return out
+
+
+def _outline_segments(result):
+    """Outline edges [length_unit] grouped as interior, exterior, adiabatic."""
+    model, mesh = result.model, result.mesh
+    xy = mesh.nodes / model.metres_per_unit
+    kinds = np.array([model.environment(s.environment).kind for s in model.surfaces] + [""])
+    kind = np.where(mesh.boundary_surface >= 0, kinds[mesh.boundary_surface], "adiabatic")
+    seg = xy[mesh.boundary_edges]
+    return {k: seg[kind == k] for k in ("interior", "exterior", "adiabatic")}
+
+
+OUTLINE_STYLE = {
+    "interior": dict(colors=INTERIOR, linewidths=2.2, linestyles="solid"),
+    "exterior": dict(colors=EXTERIOR, linewidths=2.2, linestyles=(0, (4, 2))),
+    "adiabatic": dict(colors=ADIABATIC, linewidths=1.4, linestyles=(0, (1, 1.5))),
+}
+OUTLINE_LABEL = {
+    "interior": "interior surface",
+    "exterior": "exterior surface",
+    "adiabatic": "adiabatic\n(cut-off or symmetry plane)",
+}
+
+
+def _surface_label_points(result):
+    """One point per surface on its own outline edges [length_unit]: S1, S2, ..."""
+    model, mesh = result.model, result.mesh
+    xy = mesh.nodes / model.metres_per_unit
+    mids = xy[mesh.boundary_edges].mean(axis=1)
+    out = []
+    for j in range(len(model.surfaces)):
+        own = mids[mesh.boundary_surface == j]
+        if len(own) == 0:
+            continue
+        centre = own.mean(axis=0)
+        out.append((j, own[int(np.argmin(np.linalg.norm(own - centre, axis=1)))]))
+    return out
+
+
+# -- the five figures -------------------------------------------------------------
+
+def materials_figure(result):
+    """Material map: regions in painter's order, legend with names and λ.
 
     Parameters
     ----------
     result : bridgecalc.pipeline.Result
-    path : str or Path
-        PNG file to write.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    model = result.model
+    with plt.rc_context(STYLE):
+        fig, ax, aspect = _new_figure(result, model.name or "junction",
+                                      "Materials; lighter fill = lower conductivity λ")
+        style = material_colours(model)
+        for region in model.regions:
+            s = style[region.material]
+            ax.add_patch(Polygon(np.asarray(region.vertices, float), closed=True,
+                                 facecolor=s["fill"], edgecolor=s["line"], hatch=s["hatch"],
+                                 linewidth=0.0))
+        names, codes = _material_codes(result)
+        xy = result.mesh.nodes / model.metres_per_unit
+        ax.add_patch(segments_path(xy[material_edges(result.mesh, codes)], edgecolor=INK,
+                                   linewidth=0.7, gid="material-edges"))
+        handles = [Patch(facecolor=style[n]["fill"], edgecolor=style[n]["line"],
+                         hatch=style[n]["hatch"], linewidth=0.4,
+                         label=f"{n}\nλ = {model.materials[n].conductivity:g} W/(m·K)")
+                   for n in names]
+        _frame(ax, result)
+        _legend(fig, ax, handles, aspect, title="material")
+    return fig
+
+
+def _legend(fig, ax, handles, aspect, title=None):
+    """Legend in the figure's panel: right of a tall section, below a wide one."""
+    left, bottom, width, height = fig._bridgecalc_panel
+    side = _side_or_below(aspect)
+    leg = fig.legend(handles=handles, loc="upper left",
+                     bbox_to_anchor=(left, bottom + height), borderaxespad=0.0,
+                     title=title, alignment="left", handlelength=2.4, handleheight=1.8,
+                     ncols=1 if side else 2, labelspacing=0.6)
+    leg.get_title().set_fontweight("bold")
+    leg.set_gid("legend")
+    return leg
+
+
+def mesh_figure(result):
+    """Mesh view with boundary conditions along the outline.
+
+    Parameters
+    ----------
+    result : bridgecalc.pipeline.Result
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    model, mesh = result.model, result.mesh
+    xy = mesh.nodes / model.metres_per_unit
+    with plt.rc_context(STYLE):
+        fig, ax, aspect = _new_figure(
+            result, model.name or "junction",
+            f"Mesh: {mesh.node_count} nodes, {mesh.triangle_count} triangles, "
+            f"{result.element} elements; outline by boundary condition")
+        style = material_colours(model)
+        for region in model.regions:
+            ax.add_patch(Polygon(np.asarray(region.vertices, float), closed=True,
+                                 facecolor=mcolors.to_rgba(style[region.material]["fill"], 0.4),
+                                 edgecolor="none"))
+        every = material_edges(mesh, np.arange(mesh.triangle_count))
+        ax.add_patch(segments_path(xy[every], edgecolor=INK, linewidth=0.15, alpha=0.85,
+                                   gid="mesh-edges"))
+        handles = []
+        for kind, seg in _outline_segments(result).items():
+            if len(seg):
+                st = OUTLINE_STYLE[kind]
+                ax.add_patch(segments_path(seg, edgecolor=st["colors"], linewidth=st["linewidths"],
+                                           linestyle=st["linestyles"], capstyle="butt",
+                                           gid=f"outline-{kind}"))
+                handles.append(Line2D([], [], color=st["colors"], lw=st["linewidths"],
+                                      ls=st["linestyles"], label=OUTLINE_LABEL[kind]))
+        for j, p in _surface_label_points(result):
+            ax.annotate(f"S{j + 1}", p, fontsize=6.5, ha="center", va="center",
+                        color=INK, gid=f"surface-label-S{j + 1}",
+                        bbox=dict(boxstyle="round,pad=0.2", fc="white", ec=MUTED, lw=0.4))
+        _frame(ax, result)
+        _legend(fig, ax, handles, aspect, title="outline")
+    return fig
+
+
+def temperature_figure(result, isotherm_step=None):
+    """Temperature field of the surface-temperature case with labelled isotherms.
+
+    Parameters
+    ----------
+    result : bridgecalc.pipeline.Result
     isotherm_step : float, optional
-        Temperature step between labelled isolines [K]; default about 1/10
-        of θi − θe.
-    dpi : int
+        Temperature step between isotherms [K]; default 1, 2 or 5 × 10ⁿ near
+        (θi − θe)/10.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
     """
     model, mesh = result.model, result.mesh
     case = result.surface_temperature_case
-    scale = 1.0 / model.metres_per_unit
-    xy = mesh.nodes * scale
+    xy = mesh.nodes / model.metres_per_unit
     theta = case.field.nodal
     triangulation = mtri.Triangulation(xy[:, 0], xy[:, 1], mesh.triangles)
+    theta_i, theta_e = design_temperatures(model)
+    step = isotherm_step or default_isotherm_step(model)
     lo, hi = float(theta.min()), float(theta.max())
-    if isotherm_step is None:
-        span = max(hi - lo, 1e-9)
-        isotherm_step = _nice_step(span / 10)
-    levels_fill = np.linspace(lo, hi, 41) if hi > lo else np.array([lo - 0.5, lo + 0.5])
-    first = np.ceil(lo / isotherm_step) * isotherm_step
-    lines = np.arange(first, hi + 1e-12, isotherm_step)
-
-    width, height = np.ptp(xy, axis=0)
-    aspect = height / max(width, 1e-12)
-    fig_w = 7.0
-    fig_h = float(np.clip(fig_w * aspect, 2.5, 9.0)) + 0.8
-    fig, ax = plt.subplots(figsize=(fig_w, fig_h), layout="constrained")
-    filled = ax.tricontourf(triangulation, theta, levels=levels_fill, cmap=TEMPERATURE_CMAP)
-    if len(lines):
-        iso = ax.tricontour(triangulation, theta, levels=lines, colors="k", linewidths=0.6)
-        ax.clabel(iso, fmt="%g", fontsize=7)
-    labels = np.array([model.regions[r].material for r in mesh.region])
-    _, material_codes = np.unique(labels, return_inverse=True)
-    seg = xy[material_edges(mesh, material_codes)]
-    ax.add_collection(LineCollection(seg, colors="white", linewidths=0.8))
-    x_min, y_min = case.theta_si_min_at
-    ax.plot([x_min], [y_min], marker="o", ms=8, mfc="none", mec="red", mew=2,
-            label=f"θsi,min = {case.theta_si_min:.2f} °C")
-    ax.legend(loc="best", fontsize=8)
-    ax.set_aspect("equal")
-    ax.set_xlabel(f"x [{model.length_unit}]")
-    ax.set_ylabel(f"y [{model.length_unit}]")
-    ax.set_title(model.name or "junction", fontsize=10)
-    fig.colorbar(filled, ax=ax, label="temperature [°C]", shrink=0.9)
-    fig.savefig(path, dpi=dpi)
-    plt.close(fig)
+    with plt.rc_context(STYLE):
+        fig, ax, aspect = _new_figure(
+            result, model.name or "junction",
+            f"Temperature, surface-temperature case (θi = {theta_i:g} °C, θe = {theta_e:g} °C); "
+            f"isotherms every {step:g} K")
+        vmin = min(theta_i, theta_e, lo)
+        vmax = max(theta_i, theta_e, hi)
+        # Gouraud shading interpolates linearly in each triangle: for P1 it is
+        # the computed field itself, not a smoothed picture of it.
+        filled = ax.tripcolor(triangulation, theta, shading="gouraud", cmap=TEMPERATURE_CMAP,
+                              vmin=vmin, vmax=vmax, rasterized=True)
+        filled.set_gid("temperature-fill")
+        filled._bridgecalc_native_pdf = True     # PDF has Gouraud shadings of its own
+        first = math.ceil(lo / step - 1e-9) * step
+        lines = np.arange(first, hi + 1e-9 * step, step)
+        lines = lines[(lines > lo) & (lines < hi)]
+        if len(lines):
+            iso = ax.tricontour(triangulation, theta, levels=lines, colors=INK,
+                                linewidths=0.55)
+            ax.clabel(iso, fmt=lambda v: f"{v:g}", fontsize=6.5, inline=True,
+                      inline_spacing=2)
+        names, codes = _material_codes(result)
+        ax.add_patch(segments_path(xy[material_edges(mesh, codes)], edgecolor="white",
+                                   linewidth=0.6, alpha=0.7))
+        _mark_minimum(ax, result)
+        _frame(ax, result)
+        _colour_bar(fig, ax, filled, aspect, "temperature θ [°C]",
+                    ticks=_bar_ticks(vmin, vmax, step))
+    return fig
 
 
-def _nice_step(raw: float) -> float:
-    """1, 2 or 5 times a power of ten, at least ``raw``."""
-    exponent = np.floor(np.log10(raw))
-    for m in (1, 2, 5, 10):
-        if m * 10 ** exponent >= raw:
-            return float(m * 10 ** exponent)
-    return float(10 ** (exponent + 1))
+def default_isotherm_step(model) -> float:
+    """1, 2 or 5 × 10ⁿ K near a tenth of θi − θe [K]."""
+    theta_i, theta_e = design_temperatures(model)
+    return nice_step(abs(theta_i - theta_e) / 10)
+
+
+def _bar_ticks(lo, hi, step):
+    ticks = np.arange(math.ceil(lo / step - 1e-9) * step, hi + 1e-9 * step, step)
+    while len(ticks) > 12:
+        ticks = ticks[::2]
+    return ticks
+
+
+def _mark_minimum(ax, result):
+    """Ring at θsi,min, with its label placed where it covers the least of the solid."""
+    model, mesh = result.model, result.mesh
+    case = result.surface_temperature_case
+    x, y = case.theta_si_min_at
+    ax.plot([x], [y], marker="o", ms=9, mfc="white", mec=INK, mew=1.6, zorder=5,
+            gid="theta-si-min-marker", clip_on=False)
+    ax.plot([x], [y], marker="+", ms=9, color=INK, mew=1.0, zorder=6, clip_on=False)
+    xy = mesh.nodes / model.metres_per_unit
+    finder = mtri.Triangulation(xy[:, 0], xy[:, 1], mesh.triangles).get_trifinder()
+    lo, hi = _padded_extent(result)
+    reach = 0.12 * float((hi - lo).max())
+    best = None
+    for dx, dy in ((1, 1), (-1, 1), (1, -1), (-1, -1)):
+        # sample the box the label would take, in data units
+        gx = x + dx * reach * np.linspace(0.3, 2.2, 6)
+        gy = y + dy * reach * np.linspace(0.3, 0.9, 3)
+        px, py = np.meshgrid(gx, gy)
+        inside_axes = ((px > lo[0]) & (px < hi[0]) & (py > lo[1]) & (py < hi[1])).mean()
+        covered = (finder(px.ravel(), py.ravel()) >= 0).mean()
+        score = (covered - 2.0 * inside_axes, -dy, -dx)
+        if best is None or score < best[0]:
+            best = (score, dx, dy)
+    _, dx, dy = best
+    ax.annotate(f"θsi,min = {case.theta_si_min:.2f} °C\nat ({x:g}, {y:g}) {model.length_unit}",
+                (x, y), xytext=(dx * 16, dy * 16), textcoords="offset points", fontsize=7,
+                ha="left" if dx > 0 else "right", va="bottom" if dy > 0 else "top",
+                zorder=7, gid="theta-si-min-label",
+                bbox=dict(boxstyle="square,pad=0.3", fc="white", ec=INK, lw=0.6),
+                arrowprops=dict(arrowstyle="-", color=INK, lw=0.7))
+
+
+def _colour_bar(fig, ax, mappable, aspect, label, ticks=None):
+    """Colour bar in the figure's panel: upright beside a tall section, flat below a wide one."""
+    left, bottom, width, height = fig._bridgecalc_panel
+    if _side_or_below(aspect):
+        bar_h = min(height, 4.5 / fig.get_figheight())
+        cax = fig.add_axes([left, bottom + height - bar_h, 0.16 / PAGE_WIDTH, bar_h])
+        bar = fig.colorbar(mappable, cax=cax)
+    else:
+        cax = fig.add_axes([left, bottom + height - 0.16 / fig.get_figheight(),
+                            min(width, 4.0 / PAGE_WIDTH), 0.16 / fig.get_figheight()])
+        bar = fig.colorbar(mappable, cax=cax, orientation="horizontal")
+    bar.set_label(label)
+    if ticks is not None:
+        bar.set_ticks(ticks)
+    bar.outline.set_linewidth(0.5)
+    cax.tick_params(labelsize=7, length=2.5, width=0.5)
+    cax.set_gid("colour-bar")
+    return bar
+
+
+def heat_flux_figure(result):
+    """|q| of the heat-flow case per triangle (log scale) with flow-direction arrows.
+
+    Parameters
+    ----------
+    result : bridgecalc.pipeline.Result
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    model, mesh = result.model, result.mesh
+    xy = mesh.nodes / model.metres_per_unit
+    q = heat_flux_density(model, result.heat_flow_case.field)
+    magnitude = np.hypot(q[:, 0], q[:, 1])
+    top = float(magnitude.max())
+    floor = max(top * 1e-3, float(magnitude[magnitude > 0].min()) if np.any(magnitude > 0)
+                else 1e-12)
+    floor = min(floor, top * 0.5) if top > 0 else 1e-12
+    top = max(top, floor * 10)
+    triangulation = mtri.Triangulation(xy[:, 0], xy[:, 1], mesh.triangles)
+    with plt.rc_context(STYLE):
+        fig, ax, aspect = _new_figure(
+            result, model.name or "junction",
+            "Heat-flux density |q| = |−λ∇θ|, heat-flow case; arrows show direction only")
+        shade = ax.tripcolor(triangulation, facecolors=np.clip(magnitude, floor, top),
+                             cmap=HEAT_FLUX_CMAP, edgecolors="none",
+                             norm=mcolors.LogNorm(vmin=floor, vmax=top), rasterized=True)
+        shade.set_gid("heat-flux-fill")
+        names, codes = _material_codes(result)
+        ax.add_patch(segments_path(xy[material_edges(mesh, codes)], edgecolor="white",
+                                   linewidth=0.5, alpha=0.6))
+        _flow_arrows(ax, triangulation, xy, q, magnitude)
+        _frame(ax, result)
+        bar = _colour_bar(fig, ax, shade, aspect, "heat-flux density |q| [W/m²], log scale")
+        # plain numbers (0.1, 1, 10), not powers of ten in mathtext
+        bar.ax.yaxis.set_major_formatter(FuncFormatter(lambda v, _: f"{v:g}"))
+        bar.ax.xaxis.set_major_formatter(FuncFormatter(lambda v, _: f"{v:g}"))
+    return fig
+
+
+def _flow_arrows(ax, triangulation, xy, q, magnitude):
+    """Unit arrows along q on a regular grid, one per cell inside the solid."""
+    lo, hi = xy.min(axis=0), xy.max(axis=0)
+    span = hi - lo
+    spacing = float(span.max()) / 26
+    nx = max(int(span[0] / spacing), 1)
+    ny = max(int(span[1] / spacing), 1)
+    gx = lo[0] + (np.arange(nx) + 0.5) * span[0] / nx
+    gy = lo[1] + (np.arange(ny) + 0.5) * span[1] / ny
+    px, py = np.meshgrid(gx, gy)
+    px, py = px.ravel(), py.ravel()
+    cell = triangulation.get_trifinder()(px, py)
+    inside = cell >= 0
+    cell = cell[inside]
+    strong = magnitude[cell] > 1e-9 * max(float(magnitude.max()), 1e-300)
+    cell = cell[strong]
+    u = q[cell, 0] / magnitude[cell]
+    v = q[cell, 1] / magnitude[cell]
+    length = 0.6 * min(span[0] / nx, span[1] / ny)
+    ax.quiver(px[inside][strong], py[inside][strong], u * length, v * length,
+              angles="xy", scale_units="xy", scale=1.0, pivot="middle", color="white",
+              edgecolor=INK, linewidth=0.35, width=0.0035, headwidth=4, headlength=4.5,
+              headaxislength=4, gid="flow-arrows", zorder=4)
+
+
+def surface_temperature_figure(result, f_rsi_min=None):
+    """θ along the interior surface against distance along it, with the fRsi criterion.
+
+    Parameters
+    ----------
+    result : bridgecalc.pipeline.Result
+    f_rsi_min : float, optional
+        The user's criterion fRsi,min [-]; drawn as θe + fRsi,min (θi − θe).
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    model = result.model
+    case = result.surface_temperature_case
+    theta_i, theta_e = design_temperatures(model)
+    profiles = interior_surface_profiles(model, case.field)
+    unit = model.length_unit
+    total = sum(float(p.arc_length[-1]) for p in profiles)
+    gap = 0.04 * total if len(profiles) > 1 else 0.0
+    with plt.rc_context({**STYLE, "axes.facecolor": PAPER}):
+        fig_h = 3.9
+        fig = plt.figure(figsize=(PAGE_WIDTH, fig_h))
+        ax = fig.add_axes([MARGIN_LEFT / PAGE_WIDTH, 1.35 / fig_h,
+                           (PAGE_WIDTH - MARGIN_LEFT - 0.75) / PAGE_WIDTH,
+                           (fig_h - 1.35 - MARGIN_TOP - 0.15) / fig_h])
+        fig.text(0.12 / PAGE_WIDTH, 1 - 0.12 / fig_h, model.name or "junction", ha="left",
+                 va="top", fontsize=9.5, fontweight="bold", color=INK)
+        fig.text(0.12 / PAGE_WIDTH, 1 - 0.33 / fig_h,
+                 "Interior surface temperature (surface-temperature case) along each run of "
+                 "interior surface; breaks at cut-off planes", ha="left", va="top",
+                 fontsize=7.5, color=MUTED)
+        fig.add_artist(Line2D([0.12 / PAGE_WIDTH, 1 - 0.12 / PAGE_WIDTH],
+                              [1 - 0.5 / fig_h] * 2, color=INTERIOR, lw=0.8))
+        offset = 0.0
+        lowest = case.theta_si_min
+        for k, p in enumerate(profiles):
+            s = p.arc_length + offset
+            ax.plot(s, p.temperature, color=INTERIOR, lw=1.4, solid_capstyle="butt",
+                    label="θsi along the interior surface" if k == 0 else None,
+                    gid=f"profile-{k}")
+            # surface names along the top
+            for j in dict.fromkeys(p.surface.tolist()):
+                sel = np.flatnonzero(p.surface == j)
+                a, b = s[sel[0]], s[sel[-1] + 1]
+                ax.axvspan(a, b, color=VOID if j % 2 else PAPER, zorder=0, lw=0)
+                ax.text(0.5 * (a + b), 1.0, f"S{j + 1}", transform=ax.get_xaxis_transform(),
+                        ha="center", va="bottom", fontsize=6.5, color=MUTED)
+            if k < len(profiles) - 1:
+                ax.axvline(s[-1] + gap / 2, color=ADIABATIC, lw=1.0, ls=(0, (1, 1.5)))
+            lowest = min(lowest, float(p.temperature.min()))
+            offset = s[-1] + gap
+        # θsi,min where the result says it is
+        s_min = _arc_position(profiles, case.theta_si_min_at, gap)
+        if s_min is not None:
+            ax.plot([s_min], [case.theta_si_min], marker="o", ms=7, mfc="white", mec=INK,
+                    mew=1.4, ls="none", zorder=5, gid="theta-si-min-marker",
+                    label=f"θsi,min = {case.theta_si_min:.2f} °C, fRsi = {case.f_rsi:.3f}")
+        span_theta = theta_i - theta_e
+        if f_rsi_min is not None:
+            theta_crit = theta_e + f_rsi_min * span_theta
+            ax.axhline(theta_crit, color=INK, lw=1.0, ls=(0, (6, 2, 1, 2)),
+                       gid="f-rsi-criterion",
+                       label=f"criterion fRsi = {f_rsi_min:g} (θ = {theta_crit:.2f} °C), "
+                             f"as set by the user")
+            lowest = min(lowest, theta_crit)
+        ax.set_xlim(-0.01 * max(offset, 1e-12), max(offset - gap, 1e-12) * 1.01)
+        top = max(float(max(p.temperature.max() for p in profiles)), lowest + 1e-6)
+        pad = 0.12 * (top - lowest) + 0.02
+        ax.set_ylim(lowest - pad, top + pad)
+        ax.set_xlabel(f"distance along the interior surface [{unit}]")
+        ax.set_ylabel("θsi [°C]")
+        right = ax.secondary_yaxis("right", functions=(
+            lambda t: (t - theta_e) / span_theta, lambda f: theta_e + f * span_theta))
+        right.set_ylabel("temperature factor fRsi [-]")
+        right.tick_params(labelsize=7, length=3, width=0.5)
+        ax.spines["right"].set_visible(True)
+        ax.grid(axis="y", color=VOID, lw=0.6)
+        ax.tick_params(length=3, width=0.5)
+        leg = fig.legend(loc="lower left", bbox_to_anchor=(MARGIN_LEFT / PAGE_WIDTH,
+                                                            0.08 / fig_h),
+                         ncols=1, borderaxespad=0.0)
+        leg.set_gid("legend")
+    return fig
+
+
+def _arc_position(profiles, at, gap):
+    """Distance along the concatenated profiles of the point ``at`` [length_unit]."""
+    at = np.asarray(at, float)
+    best, where = None, None
+    offset = 0.0
+    for p in profiles:
+        a, b = p.points[:-1], p.points[1:]
+        d = b - a
+        t = np.clip(np.einsum("ij,ij->i", at - a, d) / np.maximum(
+            np.einsum("ij,ij->i", d, d), 1e-300), 0.0, 1.0)
+        foot = a + t[:, None] * d
+        dist = np.linalg.norm(foot - at, axis=1)
+        k = int(np.argmin(dist))
+        if best is None or dist[k] < best:
+            best = float(dist[k])
+            where = offset + p.arc_length[k] + t[k] * (p.arc_length[k + 1] - p.arc_length[k])
+        offset += float(p.arc_length[-1]) + gap
+    return where
+
+
+BUILDERS = {
+    "materials": lambda r, o: materials_figure(r),
+    "mesh": lambda r, o: mesh_figure(r),
+    "temperature": lambda r, o: temperature_figure(r, o.get("isotherm_step")),
+    "heat_flux": lambda r, o: heat_flux_figure(r),
+    "surface_temperature": lambda r, o: surface_temperature_figure(r, o.get("f_rsi_min")),
+}
+
+
+def build_figure(name: str, result, **options):
+    """One of :data:`FIGURES` as a Figure (``isotherm_step``, ``f_rsi_min`` apply)."""
+    return BUILDERS[name](result, options)
+
+
+def save(fig, stem: Path, formats=FORMATS, dpi=PNG_DPI) -> list[Path]:
+    """Write ``fig`` as ``stem.png`` (``dpi``), ``stem.svg`` and ``stem.pdf``.
+
+    Metadata that would change from run to run (dates, versions) is left
+    out, so the same input gives the same files.
+    """
+    metadata = {"png": {"Software": None},
+                "svg": {"Date": None, "Creator": None},
+                "pdf": {"CreationDate": None, "ModDate": None, "Producer": None,
+                        "Creator": None}}
+    native = [a for ax in fig.axes for a in ax.get_children()
+              if getattr(a, "_bridgecalc_native_pdf", False)]
+    written = []
+    with plt.rc_context(STYLE):
+        for fmt in formats:
+            path = stem.with_suffix(f".{fmt}")
+            for artist in native:
+                artist.set_rasterized(fmt != "pdf")
+            if fmt == "png":
+                fig.savefig(path, format=fmt, dpi=dpi, metadata=metadata[fmt],
+                            pil_kwargs={"compress_level": 1})
+            else:
+                fig.savefig(path, format=fmt, dpi=VECTOR_RASTER_DPI, metadata=metadata[fmt])
+            written.append(path)
+    return written
+
+
+def write_figures(result, folder, isotherm_step=None, f_rsi_min=None,
+                  formats=FORMATS, dpi=PNG_DPI) -> dict:
+    """Build and write every figure into ``folder``.
+
+    Parameters
+    ----------
+    result : bridgecalc.pipeline.Result
+    folder : Path
+    isotherm_step : float, optional
+        [K]
+    f_rsi_min : float, optional
+        The user's fRsi criterion [-].
+
+    Returns
+    -------
+    dict of str to list of Path
+        Files written per figure name.
+    """
+    folder = Path(folder)
+    out = {}
+    for name in FIGURES:
+        fig = build_figure(name, result, isotherm_step=isotherm_step, f_rsi_min=f_rsi_min)
+        try:
+            out[name] = save(fig, folder / name, formats, dpi)
+        finally:
+            plt.close(fig)
+    return out

@@ -1,63 +1,527 @@
-"""The short HTML summary: numbers, figure, cautions. Reads results only."""
+"""The review report: one content, two renderings (report.html, report.pdf).
+
+:func:`report_content` turns a result (and what the run knows besides: the
+fRsi criterion, the dimension system, the validation stamp, the figures) into
+a list of blocks: headings, paragraphs, tables, figures. :func:`render_html`
+writes those blocks as one self-contained HTML file (figures embedded, no
+external resources); :mod:`bridgecalc.pdfreport` lays the same blocks out as
+a PDF. So both carry the same content by construction.
+
+Everything shown is read from the result and the model; nothing here
+recomputes physics.
+"""
 
 from __future__ import annotations
 
 import base64
+import hashlib
 import html
+import math
+import re
+from dataclasses import dataclass, field
 from pathlib import Path
 
+from . import __version__
 from .results import CAUTION
 
-
-def _row(label, value, unit=""):
-    return (f"<tr><th>{html.escape(label)}</th><td>{html.escape(value)}</td>"
-            f"<td>{html.escape(unit)}</td></tr>")
+# -- blocks ---------------------------------------------------------------------
 
 
-def summary_html(result, figure_png: Path | None = None) -> str:
-    """A self-contained HTML page with the headline numbers and the figure."""
-    data = result.to_dict()
-    hf, st = data["heat_flow_case"], data["surface_temperature_case"]
+@dataclass
+class Heading:
+    level: int
+    text: str
+    anchor: str = ""
+
+
+@dataclass
+class Para:
+    """A paragraph. ``tone``: normal, note, pass, fail, warn, caution."""
+
+    text: str
+    tone: str = "normal"
+
+
+@dataclass
+class Table:
+    header: list[str]
+    rows: list[list[str]]
+    caption: str = ""
+    numeric: tuple[int, ...] = ()       # right-aligned columns
+    widths: tuple[float, ...] = ()      # relative column widths (PDF)
+
+
+@dataclass
+class Figure:
+    name: str
+    png: Path
+    caption: str
+
+
+@dataclass
+class KeyFigures:
+    """The headline numbers: (label, value, unit, note)."""
+
+    items: list[tuple[str, str, str, str]] = field(default_factory=list)
+
+
+@dataclass
+class Report:
+    title: str
+    subtitle: str
+    blocks: list
+
+
+# -- content ----------------------------------------------------------------------
+
+FIGURE_CAPTIONS = {
+    "materials": "Materials as modelled, regions drawn in file order (a later region "
+                 "covers an earlier one). Fill lightness follows λ on a log scale; hatches "
+                 "tell materials apart.",
+    "mesh": "The finite-element mesh and the boundary conditions on the outline. S1, S2, ... "
+            "are the surfaces of the inputs table; unmarked dotted edges are adiabatic "
+            "cut-off or symmetry planes.",
+    "temperature": "Temperatures of the surface-temperature case (surface resistances for "
+                   "surface temperature) with labelled isotherms; the ring marks θsi,min.",
+    "heat_flux": "Heat-flux density |q| = |−λ∇θ| per triangle in the heat-flow case, on a "
+                 "log scale; arrows show the direction of heat flow only.",
+    "surface_temperature": "Interior surface temperature along every run of interior "
+                           "surface (surface-temperature case), against the distance along "
+                           "it; the right axis reads it as a temperature factor.",
+}
+
+DIMENSION_NAMES = ("overall internal", "internal", "external")
+
+
+def stated_dimension_system(model, stated: str | None = None) -> tuple[str | None, str]:
+    """The dimension system for Ψ and where it was stated.
+
+    Parameters
+    ----------
+    model : Model
+    stated : str, optional
+        What the caller knows, e.g. a geometry script's ``DIMENSION_SYSTEM``.
+
+    Returns
+    -------
+    (str or None, str)
+        The system ("external", "internal", "overall internal") or None, and a
+        sentence saying how it is known.
+    """
+    if stated:
+        return stated, f"as stated by the model: {stated} dimensions (geometry script)"
+    name = model.name or ""
+    for system in DIMENSION_NAMES:
+        if re.search(rf"\b{system} dimensions\b", name, flags=re.IGNORECASE):
+            return system, f"as stated by the model: {system} dimensions (in its name)"
+    return None, ("not stated by the model. Ψ depends on the dimension system used for the "
+                  "flanking lengths (ISO 14683 names external, overall internal and internal); "
+                  "state it wherever this Ψ is used")
+
+
+def _n(value, digits=4) -> str:
+    """A number for tables: fixed decimals, minus sign as in print."""
+    if value is None or (isinstance(value, float) and not math.isfinite(value)):
+        return "–"
+    text = f"{value:.{digits}f}"
+    return text.replace("-", "−")
+
+
+def _g(value) -> str:
+    return f"{value:g}".replace("-", "−")
+
+
+def _point(p) -> str:
+    return "(" + ", ".join(_g(c) for c in p) + ")"
+
+
+def model_fingerprint(model) -> str:
+    """SHA-256 of the model written as a format-1 file: the same inputs, the same digits."""
+    from .model import dumps
+    try:
+        text = dumps(model)
+    except Exception:           # a model that cannot be written still gets a report
+        return "not available"
+    return hashlib.sha256(text.encode("utf-8")).hexdigest()[:16]
+
+
+def surface_outline_lengths(result) -> list[float]:
+    """Length of outline lying on each surface [length_unit], from the mesh edges."""
+    import numpy as np
+    mesh = result.mesh
+    xy = mesh.nodes / result.model.metres_per_unit
+    seg = xy[mesh.boundary_edges]
+    lengths = np.linalg.norm(seg[:, 1] - seg[:, 0], axis=1)
+    return [float(lengths[mesh.boundary_surface == j].sum())
+            for j in range(len(result.model.surfaces))]
+
+
+def _surface_of_minimum(result) -> int | None:
+    """Index of the surface holding θsi,min (nearest outline edge on an interior surface)."""
+    import numpy as np
+    model, mesh = result.model, result.mesh
+    at = np.asarray(result.surface_temperature_case.theta_si_min_at, float)
+    xy = mesh.nodes / model.metres_per_unit
+    interior = [j for j, s in enumerate(model.surfaces)
+                if model.environment(s.environment).kind == "interior"]
+    mask = np.isin(mesh.boundary_surface, interior)
+    if not mask.any():
+        return None
+    seg = xy[mesh.boundary_edges[mask]]
+    a, d = seg[:, 0], seg[:, 1] - seg[:, 0]
+    t = np.clip(((at - a) * d).sum(1) / np.maximum((d * d).sum(1), 1e-300), 0, 1)
+    dist = np.linalg.norm(a + t[:, None] * d - at, axis=1)
+    return int(mesh.boundary_surface[mask][int(np.argmin(dist))])
+
+
+def f_rsi_verdict(f_rsi: float, f_rsi_min: float | None) -> str | None:
+    """``"meets"``, ``"fails"`` or None without a criterion (fRsi ≥ fRsi,min meets)."""
+    if f_rsi_min is None:
+        return None
+    return "meets" if f_rsi >= f_rsi_min else "fails"
+
+
+COMMON_PRACTICE = ("Common practice, no single source: fRsi ≥ 0.75 is a usual design "
+                   "criterion for dwellings in the UK and 0.70 in Germany; other countries "
+                   "and uses differ. The criterion that applies is set by the codes in force "
+                   "where the building stands.")
+
+EXTRA_CAUTIONS = [
+    "A temperature factor that meets a criterion does not by itself rule out mould or "
+    "condensation: the criterion assumes design interior temperature and humidity, and "
+    "occupancy, ventilation and workmanship may differ. A factor below the criterion marks "
+    "a surface at risk under those design conditions.",
+    "This is a two-dimensional steady-state calculation per metre of junction: point "
+    "thermal bridges (fixings, brackets, column heads) and three-dimensional corners are "
+    "not included, and the values hold only for the geometry, conductivities and surface "
+    "resistances listed above.",
+    "Ψ is only meaningful with the dimension system and flanking U-values it was computed "
+    "with; reuse it only with the same ones.",
+]
+
+
+def report_content(result, figures: dict | None = None, f_rsi_min: float | None = None,
+                   stamp=None, dimension_system: str | None = None,
+                   files: list[str] | None = None, results_dict: dict | None = None) -> Report:
+    """The report as blocks.
+
+    Parameters
+    ----------
+    result : bridgecalc.pipeline.Result
+    figures : dict of str to Path, optional
+        PNG file per figure name (:data:`bridgecalc.figures.FIGURES`).
+    f_rsi_min : float, optional
+        The user's fRsi criterion [-].
+    stamp : bridgecalc.stamp.Stamp, optional
+        The validation stamp; None says the checks were not run.
+    dimension_system : str, optional
+        As stated by a geometry script.
+    files : list of str, optional
+        Names of the files written beside the report.
+    results_dict : dict, optional
+        ``result.to_dict()`` if already made (it may carry ``convergence``).
+    """
+    data = results_dict if results_dict is not None else result.to_dict()
+    model = result.model
     unit = data["length_unit"]
-    rows = [_row("L2D, thermal coupling coefficient", f"{hf['coupling_coefficient']:.4f}",
-                 "W/(m·K)")]
-    for f in hf["flanking"]:
-        rows.append(_row(f"U·l, {f['name']}", f"{f['ul']:.4f}",
-                         f"W/(m·K)  (U = {f['u_value']:.4f} W/(m²·K), l = {f['length']:g} {unit})"))
+    hf, st = data["heat_flow_case"], data["surface_temperature_case"]
+    theta_i, theta_e = data["temperatures"]["interior"], data["temperatures"]["exterior"]
+    system, system_note = stated_dimension_system(model, dimension_system)
+    title = data["name"] or "Junction"
+    subtitle = (f"Two-dimensional steady conduction to ISO 10211 · bridgecalc {__version__} · "
+                f"model {model.origin} · inputs fingerprint {model_fingerprint(model)}")
+    blocks: list = []
+
+    # -- summary
+    blocks.append(Heading(2, "Result", "result"))
+    key = KeyFigures()
+    key.items.append(("L2D", _n(hf["coupling_coefficient"]), "W/(m·K)",
+                      "thermal coupling coefficient"))
     if "psi" in hf:
-        rows.append(_row("Ψ, linear thermal transmittance", f"{hf['psi']:.4f}", "W/(m·K)"))
-    at = ", ".join(f"{c:g}" for c in st["theta_si_min_at"])
-    rows += [
-        _row("θsi,min, lowest interior surface temperature", f"{st['theta_si_min']:.2f}",
-             f"°C at ({at}) {unit}"),
-        _row("fRsi, temperature factor", f"{st['f_rsi']:.3f}", "-"),
-    ]
+        key.items.append(("Ψ", _n(hf["psi"]), "W/(m·K)",
+                          f"{system} dimensions" if system else "dimension system not stated"))
+    key.items.append(("θsi,min", _n(st["theta_si_min"], 2), "°C",
+                      f"at {_point(st['theta_si_min_at'])} {unit}"))
+    verdict = f_rsi_verdict(st["f_rsi"], f_rsi_min)
+    key.items.append(("fRsi", _n(st["f_rsi"], 3), "",
+                      "no criterion given" if verdict is None else
+                      f"{verdict} fRsi ≥ {_g(f_rsi_min)}"))
+    blocks.append(key)
+    where = _surface_of_minimum(result)
+    where_text = f" on surface S{where + 1}" if where is not None else ""
+    if verdict == "meets":
+        blocks.append(Para(
+            f"PASS against the criterion given for this run: fRsi = {_n(st['f_rsi'], 3)} ≥ "
+            f"{_g(f_rsi_min)} (θsi,min = {_n(st['theta_si_min'], 2)} °C at "
+            f"{_point(st['theta_si_min_at'])} {unit}{where_text}). The criterion was set by "
+            f"the user; check that it is the one required where the building stands.", "pass"))
+    elif verdict == "fails":
+        blocks.append(Para(
+            f"FAIL against the criterion given for this run: fRsi = {_n(st['f_rsi'], 3)} < "
+            f"{_g(f_rsi_min)}. The interior surface at {_point(st['theta_si_min_at'])} {unit}"
+            f"{where_text} reaches only {_n(st['theta_si_min'], 2)} °C: under the design "
+            f"conditions it is at risk of mould growth or surface condensation. Do not "
+            f"accept the detail as it is; revise it or have it assessed by a qualified "
+            f"practitioner.", "fail"))
+    else:
+        blocks.append(Para(
+            f"No fRsi criterion was given for this run (bridgecalc run --f-rsi-min), so no "
+            f"pass or fail is stated. {COMMON_PRACTICE}", "note"))
+    blocks.append(Para(f"Dimension system for Ψ: {system_note}.",
+                       "normal" if system else "warn"))
+    convergence = data.get("convergence")
+    if convergence and not convergence.get("criterion_met", False):
+        blocks.append(Para(
+            "The result did not converge: refining the mesh still changed it by more than "
+            "the ISO 10211 criterion allows (see Mesh refinement below). Treat the values "
+            "as provisional.", "fail"))
+    blocks.append(Para(CAUTION, "caution"))
+
+    # -- inputs
+    blocks.append(Heading(2, "Inputs", "inputs"))
+    blocks.append(Para(
+        f"Lengths in {unit}. Interior {_g(theta_i)} °C, exterior {_g(theta_e)} °C "
+        f"(θi − θe = {_g(theta_i - theta_e)} K). Model origin: {model.origin}.", "normal"))
+    names_sorted = sorted(model.materials)
+    used = {}
+    for r in model.regions:
+        used[r.material] = used.get(r.material, 0) + 1
+    rows = []
+    for name in names_sorted:
+        m = model.materials[name]
+        source = m.source or "not stated"
+        if m.air_layer is not None:
+            a = m.air_layer
+            source = (f"unventilated air layer, d = {_g(a.thickness)} {unit}, {a.direction} "
+                      f"heat flow, ε = {_g(a.emissivities[0])}/{_g(a.emissivities[1])}; "
+                      f"equivalent λ by ISO 6946 Annex D" + (f"; {m.source}" if m.source else ""))
+        rows.append([str(names_sorted.index(name)), name, _g(m.conductivity), source,
+                     str(used.get(name, 0))])
+    blocks.append(Table(["#", "material", "λ [W/(m·K)]", "source of λ", "regions"], rows,
+                        "Materials (# is the material_index of field.vtu).", (0, 2, 4),
+                        (0.5, 2.2, 1.3, 6.0, 1.0)))
+    blocks.append(Table(
+        ["environment", "kind", "θ [°C]"],
+        [[e.name, e.kind, _g(e.temperature)] for e in model.environments],
+        "Environments.", (2,), (3, 2, 1.5)))
+    lengths = surface_outline_lengths(result)
+    rows = []
+    for j, s in enumerate(model.surfaces):
+        kind = model.environment(s.environment).kind
+        rows.append([f"S{j + 1}", s.environment, kind, _g(s.resistance),
+                     _g(s.resistance_for_surface_temperature),
+                     " → ".join(_point(p) for p in s.path), _g(round(lengths[j], 6))])
+    blocks.append(Table(
+        ["surface", "environment", "kind", "R for heat flow [m²·K/W]",
+         "R for surface temperature [m²·K/W]", f"path [{unit}]", f"outline on it [{unit}]"],
+        rows, "Surfaces and their surface resistances: the first is used for heat flow, L2D "
+              "and Ψ, the second for θsi,min and fRsi (ISO 13788). Outline edges on no surface "
+              "are adiabatic (cut-off or symmetry planes).", (3, 4, 6),
+        (0.8, 1.4, 1.1, 1.4, 1.6, 3.4, 1.2)))
+    if hf["flanking"]:
+        rows = []
+        for f_model, f in zip(model.flanking, hf["flanking"]):
+            if f_model.u_value is not None:
+                how = "given"
+            else:
+                layers = "; ".join(f"{layer.material} {_g(layer.thickness)} {unit}"
+                                   for layer in f_model.layers)
+                rs = f_model.surface_resistances
+                how = ("ISO 6946 plane layers: " + layers
+                       + (f"; Rsi {_g(rs[0])}, Rse {_g(rs[1])} m²·K/W" if rs else
+                          "; default surface resistances"))
+            rows.append([f["name"], _n(f["u_value"]), how, _g(f["length"]), _n(f["ul"])])
+        blocks.append(Table(
+            ["flanking element", "U [W/(m²·K)]", "how U was obtained", f"l [{unit}]",
+             "U·l [W/(m·K)]"], rows,
+            f"Flanking elements for Ψ = L2D − Σ U·l; lengths in the dimension system: "
+            f"{system or 'not stated'}.", (1, 3, 4), (1.8, 1.1, 4.6, 1.0, 1.2)))
+    else:
+        blocks.append(Para("No flanking elements: Ψ is not computed, only L2D.", "note"))
+
+    # -- results in detail
+    blocks.append(Heading(2, "Results in detail", "details"))
+    rows = [["L2D, thermal coupling coefficient", _n(hf["coupling_coefficient"]), "W/(m·K)"]]
+    if hf["flanking"]:
+        rows.append(["Σ U·l of the flanking elements", _n(sum(f["ul"] for f in hf["flanking"])),
+                     "W/(m·K)"])
+    if "psi" in hf:
+        rows.append(["Ψ, linear thermal transmittance", _n(hf["psi"]), "W/(m·K)"])
+    rows.append(["θsi,min, lowest interior surface temperature", _n(st["theta_si_min"], 2),
+                 f"°C at {_point(st['theta_si_min_at'])} {unit}{where_text}"])
+    rows.append(["fRsi = (θsi,min − θe)/(θi − θe)", _n(st["f_rsi"], 3), "–"])
+    if f_rsi_min is not None:
+        rows.append(["fRsi criterion given for this run", _g(f_rsi_min),
+                     "meets" if verdict == "meets" else "FAILS"])
     for name, value in hf["heat_flow"].items():
-        rows.append(_row(f"heat flow from {name}", f"{value:.4f}", "W/m"))
-    rows.append(_row("heat-flow balance", f"{hf['balance']:.1e}", "-"))
+        rows.append([f"heat flow from environment {name} (heat-flow case)", _n(value), "W/m"])
+    rows.append(["heat-flow balance |Σ Φ| / max |Φ|", f"{hf['balance']:.1e}", "–"])
     mesh = data["mesh"]
-    rows.append(_row("mesh", f"{mesh['nodes']} nodes, {mesh['triangles']} triangles",
-                     mesh["element"]))
-    image = ""
-    if figure_png is not None:
-        encoded = base64.b64encode(Path(figure_png).read_bytes()).decode("ascii")
-        image = (f'<figure><img alt="isotherms" src="data:image/png;base64,{encoded}">'
-                 f"<figcaption>Temperatures with the surface resistances for surface "
-                 f"temperature; the ring marks θsi,min.</figcaption></figure>")
-    title = html.escape(data["name"] or "junction")
-    return f"""<!DOCTYPE html>
-<html lang="en"><head><meta charset="utf-8"><title>{title}</title>
-<style>
-body {{ font-family: sans-serif; max-width: 60em; margin: 2em auto; color: #222; }}
-table {{ border-collapse: collapse; }} th, td {{ padding: .25em .8em; text-align: left;
-border-bottom: 1px solid #ccc; }} img {{ max-width: 100%; }}
-.caution {{ border-left: 4px solid #b35c00; padding: .5em 1em; background: #fff6ec; }}
-</style></head><body>
-<h1>{title}</h1>
-<p>Two-dimensional steady conduction to ISO 10211; interior {data['temperatures']['interior']:g} °C,
-exterior {data['temperatures']['exterior']:g} °C.</p>
-<table>{''.join(rows)}</table>
-{image}
-<p class="caution">{html.escape(CAUTION)}</p>
-</body></html>
+    rows.append(["mesh", f"{mesh['nodes']} nodes, {mesh['triangles']} triangles",
+                 f"{mesh['element']} elements"])
+    blocks.append(Table(["quantity", "value", "unit / note"], rows, "", (1,), (4.5, 1.6, 3.9)))
+    if hf.get("probes"):
+        blocks.append(Table(
+            ["probe", f"at [{unit}]", "θ heat-flow case [°C]", "θ surface-temperature case [°C]"],
+            [[name, _point(p.at), _n(hf["probes"][name], 2), _n(st["probes"].get(name), 2)]
+             for name, p in zip(hf["probes"], model.probes)],
+            "Probe temperatures.", (2, 3), (3, 2, 2, 2.4)))
+
+    # -- convergence
+    blocks.append(Heading(2, "Mesh refinement", "convergence"))
+    if convergence:
+        rows = []
+        for k, level in enumerate(convergence.get("levels", [])):
+            rows.append([str(k + 1), str(level.get("nodes", "")), str(level.get("triangles", "")),
+                         _n(level.get("heat_flow")), _n(level.get("coupling_coefficient")),
+                         _n(level.get("psi")), _n(level.get("theta_si_min"), 3)])
+        blocks.append(Table(["level", "nodes", "triangles", "heat flow [W/m]", "L2D [W/(m·K)]",
+                             "Ψ [W/(m·K)]", "θsi,min [°C]"], rows,
+                            "Mesh refinement study.", (0, 1, 2, 3, 4, 5, 6)))
+        change = convergence.get("iso_doubling_change")
+        lines = []
+        if convergence.get("psi_extrapolated") is not None:
+            lines.append(f"Ψ extrapolated to a zero mesh size: "
+                         f"{_n(convergence['psi_extrapolated'])} W/(m·K)"
+                         + (f" ± {_n(convergence['psi_error_estimate'])} W/(m·K) (estimate)"
+                            if convergence.get("psi_error_estimate") is not None else "") + ".")
+        if change is not None:
+            # stored as a fraction of the heat flow
+            lines.append(f"Change of the heat flow on doubling the subdivisions: "
+                         f"{100 * change:.3g} % (ISO 10211 asks for less than 1 %).")
+        blocks.append(Para(" ".join(lines), "normal"))
+        if convergence.get("criterion_met"):
+            blocks.append(Para("The mesh criterion of ISO 10211 is met.", "pass"))
+        else:
+            blocks.append(Para("The result did not converge: the mesh criterion of ISO 10211 "
+                               "is not met, so the values above may still change with a finer "
+                               "mesh. Refine the mesh before relying on them.", "fail"))
+    else:
+        blocks.append(Para(
+            "No mesh refinement study was run for this result. ISO 10211 asks that doubling "
+            "the number of subdivisions changes the computed heat flow by less than 1 %; "
+            "that has not been shown here.", "warn"))
+
+    # -- figures
+    blocks.append(Heading(2, "Figures", "figures"))
+    for k, name in enumerate(figures or {}):
+        caption = FIGURE_CAPTIONS.get(name, name)
+        if name == "surface_temperature":
+            caption += (f" The dash-dot line is the criterion fRsi = {_g(f_rsi_min)} given for "
+                        f"this run." if f_rsi_min is not None else
+                        " No criterion was given, so none is drawn.")
+        blocks.append(Figure(name, Path(figures[name]), f"Figure {k + 1}. {caption}"))
+
+    # -- validation stamp
+    blocks.append(Heading(2, "Validation stamp", "validation"))
+    if stamp is None:
+        blocks.append(Para("The built-in validation cases (bridgecalc check) were not run for "
+                           "this report.", "warn"))
+    else:
+        tone = "pass" if stamp.all_passed else "fail"
+        blocks.append(Para(
+            f"bridgecalc check with bridgecalc {stamp.version} (build fingerprint "
+            f"{stamp.fingerprint}), run {stamp.checked_at}: {stamp.passed} compared quantities "
+            f"passed, {stamp.failed} failed"
+            + (" (results kept from that run; they are rerun whenever the tool's code or "
+               "solver libraries change)" if stamp.from_cache else "") + ".", tone))
+        blocks.append(Table(["case", "reference", "passed", "failed"],
+                            [[c.case, c.source, str(c.passed), str(c.failed)]
+                             for c in stamp.cases], "", (2, 3), (2.2, 6.0, 1, 1)))
+
+    # -- cautions and files
+    blocks.append(Heading(2, "Cautions", "cautions"))
+    blocks.append(Para(CAUTION, "caution"))
+    for text in EXTRA_CAUTIONS:
+        blocks.append(Para(text, "normal"))
+    if files:
+        blocks.append(Heading(2, "Files of this run", "files"))
+        blocks.append(Para(", ".join(files) + ".", "normal"))
+    return Report(title, subtitle, blocks)
+
+
+# -- HTML -------------------------------------------------------------------------
+
+CSS = """
+:root { --ink:#1d2731; --muted:#5f6b73; --rule:#d9d4c7; --paper:#ffffff; --band:#f4f1ea;
+        --accent:#9c3d1f; --pass:#23613a; --fail:#9b1c1c; --warn:#7a5200; }
+* { box-sizing: border-box; }
+body { margin: 0; background: var(--band); color: var(--ink);
+       font: 15px/1.45 "DejaVu Sans", "Segoe UI", Helvetica, Arial, sans-serif; }
+main { max-width: 62rem; margin: 0 auto; background: var(--paper); padding: 1.6rem 2.2rem 3rem; }
+header { border-bottom: 2px solid var(--accent); padding-bottom: .6rem; margin-bottom: 1rem; }
+h1 { font-size: 1.45rem; margin: 0 0 .25rem; }
+.sub { color: var(--muted); font-size: .85rem; margin: 0; }
+h2 { font-size: 1.1rem; margin: 2rem 0 .6rem; padding-bottom: .2rem;
+     border-bottom: 1px solid var(--rule); }
+.keys { display: grid; grid-template-columns: repeat(auto-fit, minmax(11rem, 1fr));
+        gap: .6rem; margin: .6rem 0 1rem; }
+.key { border: 1px solid var(--rule); border-top: 3px solid var(--ink); padding: .5rem .7rem; }
+.key .label { font-size: .8rem; color: var(--muted); }
+.key .value { font-size: 1.5rem; font-weight: bold; font-variant-numeric: tabular-nums; }
+.key .unit { font-size: .85rem; margin-left: .25rem; }
+.key .note { font-size: .78rem; color: var(--muted); }
+p { margin: .5rem 0; }
+p.note { color: var(--muted); }
+p.pass, p.fail, p.warn, p.caution { padding: .5rem .8rem; border-left: 5px solid; }
+p.pass { border-color: var(--pass); background: #edf5ef; }
+p.fail { border-color: var(--fail); background: #fbeeee; font-weight: bold; }
+p.warn { border-color: var(--warn); background: #fbf4e6; }
+p.caution { border-color: var(--ink); background: var(--band); }
+table { border-collapse: collapse; width: 100%; margin: .4rem 0 1rem; font-size: .85rem; }
+caption { caption-side: bottom; text-align: left; color: var(--muted); font-size: .8rem;
+          padding-top: .3rem; }
+th, td { padding: .3rem .5rem; border-bottom: 1px solid var(--rule); text-align: left;
+         vertical-align: top; }
+thead th { border-bottom: 2px solid var(--ink); font-weight: bold; }
+td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
+figure { margin: 1rem 0 1.6rem; page-break-inside: avoid; }
+figure img { width: 100%; height: auto; border: 1px solid var(--rule); }
+figcaption { color: var(--muted); font-size: .82rem; margin-top: .3rem; }
+nav { font-size: .85rem; margin: .3rem 0 0; }
+nav a { color: var(--ink); margin-right: .9rem; }
+@media print { body { background: none; } main { padding: 0; max-width: none; } }
 """
+
+
+def _html_block(block) -> str:
+    e = html.escape
+    if isinstance(block, Heading):
+        anchor = f' id="{e(block.anchor)}"' if block.anchor else ""
+        return f"<h{block.level}{anchor}>{e(block.text)}</h{block.level}>"
+    if isinstance(block, Para):
+        cls = f' class="{block.tone}"' if block.tone != "normal" else ""
+        return f"<p{cls}>{e(block.text)}</p>"
+    if isinstance(block, KeyFigures):
+        cards = "".join(
+            f'<div class="key"><div class="label">{e(label)}</div>'
+            f'<div class="value">{e(value)}<span class="unit">{e(unit)}</span></div>'
+            f'<div class="note">{e(note)}</div></div>' for label, value, unit, note in block.items)
+        return f'<div class="keys">{cards}</div>'
+    if isinstance(block, Table):
+        head = "".join(f"<th>{e(h)}</th>" for h in block.header)
+        body = "".join(
+            "<tr>" + "".join(f'<td class="num">{e(c)}</td>' if i in block.numeric
+                             else f"<td>{e(c)}</td>" for i, c in enumerate(row)) + "</tr>"
+            for row in block.rows)
+        caption = f"<caption>{e(block.caption)}</caption>" if block.caption else ""
+        return f"<table>{caption}<thead><tr>{head}</tr></thead><tbody>{body}</tbody></table>"
+    if isinstance(block, Figure):
+        encoded = base64.b64encode(block.png.read_bytes()).decode("ascii")
+        return (f'<figure id="figure-{e(block.name)}"><img alt="{e(block.name)} figure" '
+                f'src="data:image/png;base64,{encoded}">'
+                f"<figcaption>{e(block.caption)}</figcaption></figure>")
+    raise TypeError(f"unknown report block {block!r}")
+
+
+def render_html(report: Report) -> str:
+    """The report as one self-contained HTML page (no external resources)."""
+    e = html.escape
+    nav = "".join(f'<a href="#{e(b.anchor)}">{e(b.text)}</a>' for b in report.blocks
+                  if isinstance(b, Heading) and b.anchor)
+    body = "\n".join(_html_block(b) for b in report.blocks)
+    return (f'<!DOCTYPE html>\n<html lang="en"><head><meta charset="utf-8">'
+            f'<meta name="viewport" content="width=device-width, initial-scale=1">'
+            f"<title>{e(report.title)}</title><style>{CSS}</style></head><body><main>"
+            f"<header><h1>{e(report.title)}</h1><p class=\"sub\">{e(report.subtitle)}</p>"
+            f"<nav>{nav}</nav></header>\n{body}\n</main></body></html>\n")

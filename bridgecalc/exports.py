@@ -1,0 +1,134 @@
+"""Exports for other programs: the fields as VTU, the headline numbers as CSV.
+
+``field.vtu`` (VTK unstructured grid, written with meshio; ParaView opens it)
+    points: the mesh nodes [length_unit, z = 0]; cells: the triangles.
+    point data: ``temperature_heat_flow_case`` and
+    ``temperature_surface_temperature_case`` [°C] at the nodes (for P2, the
+    vertex values); cell data: ``material_index`` (index into the material
+    names sorted alphabetically; the report lists each with its index),
+    ``region_index`` (index into the model's regions),
+    ``conductivity`` [W/(m·K)] and ``heat_flux_density`` (qx, qy, 0) [W/m²]
+    of the heat-flow case.
+``results.csv``
+    one header line and one row of the headline numbers.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+
+import numpy as np
+
+from .results import heat_flux_density
+
+VTU_FILE = "field.vtu"
+CSV_FILE = "results.csv"
+
+CSV_COLUMNS = (
+    "name", "length_unit", "dimension_system", "element", "nodes", "triangles",
+    "theta_i_C", "theta_e_C", "coupling_coefficient_W_per_mK", "sum_ul_W_per_mK",
+    "psi_W_per_mK", "theta_si_min_C", "theta_si_min_x", "theta_si_min_y", "f_rsi",
+    "f_rsi_min", "f_rsi_verdict", "heat_flow_balance", "converged", "version",
+)
+
+
+def material_names(model) -> list[str]:
+    """Material names in sorted order: the meaning of ``material_index``."""
+    return sorted(model.materials)
+
+
+def vtu_mesh(result):
+    """The result as a :class:`meshio.Mesh` (see the module docstring).
+
+    Parameters
+    ----------
+    result : bridgecalc.pipeline.Result
+    """
+    import meshio
+    model, mesh = result.model, result.mesh
+    names = material_names(model)
+    region_material = np.array([names.index(r.material) for r in model.regions],
+                               dtype=np.int32)
+    conductivity = np.array([model.materials[r.material].conductivity for r in model.regions])
+    q = heat_flux_density(model, result.heat_flow_case.field)
+    points = np.column_stack([mesh.nodes / model.metres_per_unit,
+                              np.zeros(mesh.node_count)])
+    return meshio.Mesh(
+        points=points,
+        cells=[("triangle", mesh.triangles.astype(np.int64))],
+        point_data={
+            "temperature_heat_flow_case": np.asarray(result.heat_flow_case.field.nodal,
+                                                     dtype=float),
+            "temperature_surface_temperature_case": np.asarray(
+                result.surface_temperature_case.field.nodal, dtype=float),
+        },
+        cell_data={
+            "material_index": [region_material[mesh.region]],
+            "region_index": [mesh.region.astype(np.int32)],
+            "conductivity": [conductivity[mesh.region]],
+            "heat_flux_density": [np.column_stack([q, np.zeros(len(q))])],
+        },
+    )
+
+
+def write_vtu(result, path) -> None:
+    """Write ``field.vtu`` (binary, zlib-compressed XML VTK)."""
+    import meshio
+    meshio.write(path, vtu_mesh(result), file_format="vtu", binary=True,
+                 compression="zlib")
+
+
+def headline_row(result, f_rsi_min=None, dimension_system=None, version="") -> dict:
+    """The CSV row: headline numbers, in the units named by the columns.
+
+    Parameters
+    ----------
+    result : bridgecalc.pipeline.Result
+    f_rsi_min : float, optional
+        The user's criterion [-].
+    dimension_system : str, optional
+        As stated by the model, or None.
+    version : str
+        bridgecalc version.
+    """
+    data = result.to_dict()
+    hf, st = data["heat_flow_case"], data["surface_temperature_case"]
+    convergence = data.get("convergence")
+    verdict = ""
+    if f_rsi_min is not None:
+        verdict = "meets" if st["f_rsi"] >= f_rsi_min else "fails"
+    row = {
+        "name": data["name"] or "",
+        "length_unit": data["length_unit"],
+        "dimension_system": dimension_system or "not stated",
+        "element": data["mesh"]["element"],
+        "nodes": data["mesh"]["nodes"],
+        "triangles": data["mesh"]["triangles"],
+        "theta_i_C": data["temperatures"]["interior"],
+        "theta_e_C": data["temperatures"]["exterior"],
+        "coupling_coefficient_W_per_mK": hf["coupling_coefficient"],
+        "sum_ul_W_per_mK": sum(f["ul"] for f in hf["flanking"]) if hf["flanking"] else "",
+        "psi_W_per_mK": hf.get("psi", ""),
+        "theta_si_min_C": st["theta_si_min"],
+        "theta_si_min_x": st["theta_si_min_at"][0],
+        "theta_si_min_y": st["theta_si_min_at"][1],
+        "f_rsi": st["f_rsi"],
+        "f_rsi_min": "" if f_rsi_min is None else f_rsi_min,
+        "f_rsi_verdict": verdict,
+        "heat_flow_balance": hf["balance"],
+        "converged": "" if not convergence else ("yes" if convergence.get("criterion_met")
+                                                 else "no"),
+        "version": version,
+    }
+    return row
+
+
+def csv_text(row: dict) -> str:
+    """Header and one row; floats in full precision (repr), so the text is deterministic."""
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\n")
+    writer.writerow(CSV_COLUMNS)
+    writer.writerow([repr(row[c]) if isinstance(row[c], float) else row[c]
+                     for c in CSV_COLUMNS])
+    return buffer.getvalue()

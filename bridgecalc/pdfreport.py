@@ -1,0 +1,250 @@
+"""report.pdf: the blocks of :func:`bridgecalc.report.report_content` laid out with ReportLab.
+
+ReportLab is pure Python from PyPI and renders without a browser or system
+libraries. Text is set in DejaVu Sans, which matplotlib ships (it covers Ψ, θ,
+λ, ², ·), embedded in the file. ``invariant`` mode leaves out creation dates
+and random ids, so the same report gives the same bytes.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+from xml.sax.saxutils import escape
+
+from . import __version__
+from .report import Figure, Heading, KeyFigures, Para, Report, Table
+
+FONT = "BridgecalcSans"
+FONT_BOLD = "BridgecalcSans-Bold"
+
+INK = "#1d2731"
+MUTED = "#5f6b73"
+RULE = "#d9d4c7"
+BAND = "#f4f1ea"
+ACCENT = "#9c3d1f"
+TONES = {"pass": ("#23613a", "#edf5ef"), "fail": ("#9b1c1c", "#fbeeee"),
+         "warn": ("#7a5200", "#fbf4e6"), "caution": (INK, BAND)}
+
+
+def _fonts():
+    """Register DejaVu Sans (from matplotlib's data folder) once."""
+    from reportlab.pdfbase import pdfmetrics
+    from reportlab.pdfbase.ttfonts import TTFont
+    if FONT in pdfmetrics.getRegisteredFontNames():
+        return
+    import matplotlib
+    folder = Path(matplotlib.get_data_path()) / "fonts" / "ttf"
+    pdfmetrics.registerFont(TTFont(FONT, str(folder / "DejaVuSans.ttf")))
+    pdfmetrics.registerFont(TTFont(FONT_BOLD, str(folder / "DejaVuSans-Bold.ttf")))
+    from reportlab.lib.fonts import addMapping
+    addMapping(FONT, 0, 0, FONT)
+    addMapping(FONT, 1, 0, FONT_BOLD)
+    addMapping(FONT, 0, 1, FONT)
+    addMapping(FONT, 1, 1, FONT_BOLD)
+
+
+def _styles():
+    from reportlab.lib.colors import HexColor
+    from reportlab.lib.styles import ParagraphStyle
+    base = ParagraphStyle("body", fontName=FONT, fontSize=9, leading=12.5,
+                          textColor=HexColor(INK), spaceAfter=5)
+    return {
+        "title": ParagraphStyle("title", parent=base, fontName=FONT_BOLD, fontSize=15,
+                                leading=19, spaceAfter=3),
+        "sub": ParagraphStyle("sub", parent=base, fontSize=7.5, leading=10,
+                              textColor=HexColor(MUTED), spaceAfter=2),
+        "h2": ParagraphStyle("h2", parent=base, fontName=FONT_BOLD, fontSize=11.5,
+                             leading=15, spaceBefore=12, spaceAfter=5, keepWithNext=1),
+        "body": base,
+        "note": ParagraphStyle("note", parent=base, textColor=HexColor(MUTED)),
+        "cell": ParagraphStyle("cell", parent=base, fontSize=7.5, leading=9.5, spaceAfter=0),
+        "cellnum": ParagraphStyle("cellnum", parent=base, fontSize=7.5, leading=9.5,
+                                  spaceAfter=0, alignment=2),
+        "head": ParagraphStyle("head", parent=base, fontName=FONT_BOLD, fontSize=7.5,
+                               leading=9.5, spaceAfter=0),
+        "caption": ParagraphStyle("caption", parent=base, fontSize=7.5, leading=10,
+                                  textColor=HexColor(MUTED), spaceAfter=10),
+        "keylabel": ParagraphStyle("keylabel", parent=base, fontSize=7.5, leading=9,
+                                   textColor=HexColor(MUTED), spaceAfter=0),
+        "keyvalue": ParagraphStyle("keyvalue", parent=base, fontName=FONT_BOLD, fontSize=14,
+                                   leading=17, spaceAfter=0),
+    }
+
+
+def _text(value: str) -> str:
+    return escape(value)
+
+
+def _flowables(report: Report, width: float, placed: list):
+    from reportlab.lib.colors import HexColor
+    from reportlab.platypus import (KeepTogether, Paragraph, Spacer,
+                                    Table as RLTable, TableStyle)
+    s = _styles()
+    out = [Paragraph(_text(report.title), s["title"]),
+           Paragraph(_text(report.subtitle), s["sub"]), Spacer(1, 2)]
+    rule = RLTable([[""]], colWidths=[width], rowHeights=[2])
+    rule.setStyle(TableStyle([("LINEABOVE", (0, 0), (-1, 0), 1.5, HexColor(ACCENT))]))
+    out.append(rule)
+    for block in report.blocks:
+        if isinstance(block, Heading):
+            out.append(Paragraph(_text(block.text), s["h2"]))
+        elif isinstance(block, Para):
+            if block.tone in TONES:
+                edge, fill = TONES[block.tone]
+                style = s["body"]
+                if block.tone == "fail":
+                    style = s["head"].clone("failbody", fontSize=9, leading=12.5)
+                box = RLTable([[Paragraph(_text(block.text), style)]], colWidths=[width])
+                box.setStyle(TableStyle([
+                    ("BACKGROUND", (0, 0), (-1, -1), HexColor(fill)),
+                    ("LINEBEFORE", (0, 0), (0, -1), 4, HexColor(edge)),
+                    ("LEFTPADDING", (0, 0), (-1, -1), 8), ("RIGHTPADDING", (0, 0), (-1, -1), 8),
+                    ("TOPPADDING", (0, 0), (-1, -1), 5), ("BOTTOMPADDING", (0, 0), (-1, -1), 5),
+                ]))
+                out += [box, Spacer(1, 5)]
+            else:
+                out.append(Paragraph(_text(block.text), s["note" if block.tone == "note"
+                                                          else "body"]))
+        elif isinstance(block, KeyFigures):
+            cells = [[Paragraph(_text(label), s["keylabel"]),
+                      Paragraph(f"{_text(value)} <font size=8 name={FONT}>{_text(unit)}</font>",
+                                s["keyvalue"]),
+                      Paragraph(_text(note), s["keylabel"])]
+                     for label, value, unit, note in block.items]
+            n = len(cells)
+            grid = RLTable([cells], colWidths=[width / n] * n)
+            grid.setStyle(TableStyle([
+                ("LINEABOVE", (0, 0), (-1, 0), 2.5, HexColor(INK)),
+                ("BOX", (0, 0), (-1, -1), 0.5, HexColor(RULE)),
+                ("INNERGRID", (0, 0), (-1, -1), 0.5, HexColor(RULE)),
+                ("VALIGN", (0, 0), (-1, -1), "TOP"),
+            ]))
+            out += [grid, Spacer(1, 8)]
+        elif isinstance(block, Table):
+            weights = block.widths or (1.0,) * len(block.header)
+            total = sum(weights)
+            widths = [width * w / total for w in weights]
+            rows = [[Paragraph(_text(h), s["head"]) for h in block.header]]
+            for row in block.rows:
+                rows.append([Paragraph(_text(c), s["cellnum" if i in block.numeric else "cell"])
+                             for i, c in enumerate(row)])
+            table = RLTable(rows, colWidths=widths, repeatRows=1)
+            table.setStyle(TableStyle([
+                ("LINEBELOW", (0, 0), (-1, 0), 1.0, HexColor(INK)),
+                ("LINEBELOW", (0, 1), (-1, -1), 0.4, HexColor(RULE)),
+                ("VALIGN", (0, 0), (-1, -1), "TOP"),
+                ("LEFTPADDING", (0, 0), (-1, -1), 3), ("RIGHTPADDING", (0, 0), (-1, -1), 3),
+            ]))
+            out.append(table)
+            out.append(Paragraph(_text(block.caption), s["caption"]) if block.caption
+                       else Spacer(1, 8))
+        elif isinstance(block, Figure):
+            from PIL import Image as PILImage
+            with PILImage.open(block.png) as im:
+                w_px, h_px = im.size
+            height = width * h_px / w_px
+            vector = block.png.with_suffix(".pdf")
+            max_height = 21.0 * 72 / 2.54        # leave room for the caption on an A4 page
+            w = width
+            if height > max_height:
+                w, height = width * max_height / height, max_height
+            out.append(KeepTogether([_Placeholder(vector, w, height, placed),
+                                     Paragraph(_text(block.caption), s["caption"])]))
+        else:
+            raise TypeError(f"unknown report block {block!r}")
+    return out
+
+
+def _Placeholder(vector_pdf: Path, width: float, height: float, placed: list):
+    """Space for a figure; records where it lands so the figure's own vector PDF
+    page can be stamped there afterwards (no image re-encoding)."""
+    from reportlab.platypus import Flowable
+
+    class Placeholder(Flowable):
+        def __init__(self):
+            super().__init__()
+            self.width, self.height = width, height
+
+        def draw(self):
+            x, y = self.canv.absolutePosition(0, 0)
+            placed.append((self.canv.getPageNumber() - 1, x, y, self.width, self.height,
+                           vector_pdf))
+
+    return Placeholder()
+
+
+def _stamp_figures(path: Path, placed: list) -> None:
+    """Put each figure's PDF page into the report at its placeholder, scaled to fit.
+
+    The figure page becomes a form XObject whose content stream is copied as it
+    is (still compressed), so nothing is parsed or re-encoded.
+    """
+    from pypdf import PdfReader, PdfWriter
+    from pypdf.generic import (ArrayObject, DecodedStreamObject, DictionaryObject,
+                               FloatObject, NameObject)
+    writer = PdfWriter(clone_from=PdfReader(path))
+    for k, (page_index, x, y, width, height, figure_pdf) in enumerate(placed):
+        figure = PdfReader(figure_pdf).pages[0]
+        box = [float(v) for v in figure.mediabox]
+        fw, fh = box[2] - box[0], box[3] - box[1]
+        scale = min(width / fw, height / fh)
+        contents = figure["/Contents"].get_object()
+        if isinstance(contents, ArrayObject):          # several streams: join them
+            data = b"\n".join(c.get_object().get_data() for c in contents)
+            form = DecodedStreamObject()
+            form.set_data(data)
+        else:
+            form = contents.clone(writer)
+        form[NameObject("/Type")] = NameObject("/XObject")
+        form[NameObject("/Subtype")] = NameObject("/Form")
+        form[NameObject("/BBox")] = ArrayObject([FloatObject(v) for v in box])
+        form[NameObject("/Resources")] = figure["/Resources"].clone(writer)
+        form_ref = writer._add_object(form)
+        page = writer.pages[page_index]
+        resources = page["/Resources"].get_object()
+        if "/XObject" not in resources:
+            resources[NameObject("/XObject")] = DictionaryObject()
+        name = f"/BridgecalcFigure{k}"
+        resources["/XObject"].get_object()[NameObject(name)] = form_ref
+        draw = DecodedStreamObject()
+        draw.set_data(f"q {scale:.6f} 0 0 {scale:.6f} {x - box[0] * scale:.4f} "
+                      f"{y - box[1] * scale:.4f} cm {name} Do Q".encode("ascii"))
+        old = page["/Contents"]
+        parts = list(old.get_object()) if isinstance(old.get_object(), ArrayObject) else [old]
+        page[NameObject("/Contents")] = ArrayObject(parts + [writer._add_object(draw)])
+    writer.add_metadata({"/Producer": f"bridgecalc {__version__}"})
+    with open(path, "wb") as handle:
+        writer.write(handle)
+
+
+def write_pdf(report: Report, path) -> None:
+    """Lay out ``report`` on A4 pages and write it to ``path``."""
+    from reportlab.lib.colors import HexColor
+    from reportlab.lib.pagesizes import A4
+    from reportlab.lib.units import cm
+    from reportlab.platypus import SimpleDocTemplate
+    _fonts()
+    margin = 1.8 * cm
+    doc = SimpleDocTemplate(str(path), pagesize=A4, leftMargin=margin, rightMargin=margin,
+                            topMargin=1.6 * cm, bottomMargin=1.8 * cm, title=report.title,
+                            author=f"bridgecalc {__version__}", subject="thermal bridge report",
+                            creator=f"bridgecalc {__version__}", invariant=1)
+
+    def footer(canvas, document):
+        canvas.saveState()
+        canvas.setFont(FONT, 7)
+        canvas.setFillColor(HexColor(MUTED))
+        canvas.drawString(margin, 1.0 * cm, f"{report.title} · bridgecalc {__version__}")
+        canvas.drawRightString(A4[0] - margin, 1.0 * cm, f"page {document.page}")
+        canvas.restoreState()
+
+    from reportlab import rl_config
+    saved = rl_config.useA85
+    rl_config.useA85 = 0        # binary streams: ASCII85 in pure Python costs seconds
+    placed: list = []
+    try:
+        doc.build(_flowables(report, A4[0] - 2 * margin, placed), onFirstPage=footer,
+                  onLaterPages=footer)
+    finally:
+        rl_config.useA85 = saved
+    _stamp_figures(Path(path), placed)
