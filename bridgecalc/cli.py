@@ -39,12 +39,14 @@ def _parser() -> argparse.ArgumentParser:
                      help="finite element: linear P1 (default) or quadratic P2")
     run.add_argument("--refine", type=float, default=1.0, metavar="FACTOR",
                      help="divide all target element sizes by FACTOR (default 1)")
+    _report_options(run)
 
     sub.add_parser("check", help="run the built-in validation cases against their "
                    "published references")
     demo = sub.add_parser("demo", help="compute the shipped demo junction")
     demo.add_argument("--out", metavar="DIR", help="output folder (default: a new "
                       "folder bridgecalc-demo in the current folder)")
+    _report_options(demo)
 
     sweep = sub.add_parser(
         "sweep", help="compute every combination of geometry script parameters",
@@ -67,6 +69,26 @@ def _parser() -> argparse.ArgumentParser:
                        help="run on the Dask distributed scheduler at ADDRESS "
                             "(tcp://host:port) instead of local processes")
     return parser
+
+
+def _report_options(parser) -> None:
+    """Options of the figures and the report, shared by run and demo."""
+    parser.add_argument("--f-rsi-min", type=float, metavar="F",
+                        help="temperature factor criterion for the report's pass/fail "
+                             "(set by the rules where the building stands; none by default)")
+    parser.add_argument("--isotherm-step", type=float, metavar="K",
+                        help="temperature step between isotherms in the figure [K] "
+                             "(default: about a tenth of θi − θe)")
+
+
+def _dimension_system(path: str):
+    """A geometry script's DIMENSION_SYSTEM, or None (model files have no such key)."""
+    from . import scripts
+    source = Path(path)
+    if source.suffix != ".py":
+        return None
+    value = getattr(scripts.load_module(source), "DIMENSION_SYSTEM", None)
+    return value if isinstance(value, str) else None
 
 
 def _load(path: str, assignments):
@@ -110,12 +132,17 @@ def summary(result, out_dir: Path) -> str:
     return "\n".join(lines)
 
 
-def _run_and_write(model, out_dir: Path, element="P1", refine=1.0) -> Path:
+def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None,
+                   dimension_system=None) -> Path:
     from .mesh import MeshOptions
-    from .outputs import write_outputs
+    from .outputs import check_options, write_outputs
     from .pipeline import run
+    f_rsi_min = getattr(args, "f_rsi_min", None)
+    isotherm_step = getattr(args, "isotherm_step", None)
+    check_options(f_rsi_min, isotherm_step)          # bad options: exit 2 before any work
     result = run(model, MeshOptions(refinement=refine), element)
-    write_outputs(result, out_dir)
+    write_outputs(result, out_dir, f_rsi_min=f_rsi_min, isotherm_step=isotherm_step,
+                  dimension_system=dimension_system)
     print(summary(result, out_dir))
     return out_dir
 
@@ -126,7 +153,8 @@ def command_run(args) -> int:
         raise BridgecalcError(f"--refine must be a positive number, got {args.refine:g}")
     model = _load(args.model, args.assignments)
     out_dir = Path(args.out) if args.out else fresh_folder(Path.cwd() / Path(args.model).stem)
-    _run_and_write(model, out_dir, args.element, args.refine)
+    _run_and_write(model, out_dir, args.element, args.refine, args,
+                   _dimension_system(args.model))
     return 0
 
 
@@ -135,15 +163,17 @@ def command_demo(args) -> int:
     script = geometries_folder() / DEMO_SCRIPT
     model = _load(str(script), [])
     out_dir = Path(args.out) if args.out else fresh_folder(Path.cwd() / "bridgecalc-demo")
-    _run_and_write(model, out_dir)
+    _run_and_write(model, out_dir, args=args, dimension_system=_dimension_system(str(script)))
     print(f"report: {out_dir / REPORT_FILE}")
     return 0
 
 
 def command_check(args) -> int:
     from .validation import format_table, run_checks
+    from .stamp import save, stamp_from_rows
     rows = run_checks()
     print(format_table(rows))
+    save(stamp_from_rows(rows))      # the stamp later reports show, for this build
     return 0 if all(r.passed for r in rows) else 1
 
 
