@@ -1,0 +1,139 @@
+"""Figures carry what a reviewer looks for; files are written whole and repeatably.
+
+References: luminance from sRGB by the ITU-R BT.709 weights (0.2126, 0.7152,
+0.0722) for the greyscale check; the criterion line at θe + fRsi (θi − θe)
+from the definition fRsi = (θsi − θe)/(θi − θe) (ISO 10211 / ISO 13788).
+"""
+
+import numpy as np
+import pytest
+from PIL import Image
+
+from bridgecalc import figures
+from bridgecalc.pipeline import load, run
+
+
+@pytest.fixture(scope="module")
+def demo(geometries):
+    return run(load(geometries / "slab_edge.py"))
+
+
+def _luminance(rgb):
+    rgb = np.asarray(rgb)[..., :3]
+    return rgb @ np.array([0.2126, 0.7152, 0.0722])
+
+
+def _texts(fig):
+    from matplotlib.text import Text
+    return [a.get_text() for a in fig.findobj(Text)]
+
+
+def _by_gid(fig, gid):
+    return [a for a in fig.findobj() if a.get_gid() == gid]
+
+
+def test_colour_maps_stay_ordered_in_grey():
+    import matplotlib
+    for name in (figures.TEMPERATURE_CMAP, figures.HEAT_FLUX_CMAP):
+        lum = _luminance(matplotlib.colormaps[name](np.linspace(0, 1, 64)))
+        assert np.all(np.diff(lum) > 0), name
+
+
+def test_material_map_legend_names_every_material_with_lambda(demo):
+    fig = figures.materials_figure(demo)
+    try:
+        legend = _by_gid(fig, "legend")[0]
+        labels = [t.get_text() for t in legend.get_texts()]
+        for name, material in demo.model.materials.items():
+            assert any(name in lab and f"λ = {material.conductivity:g}" in lab for lab in labels)
+        assert _by_gid(fig, "scale-bar")
+    finally:
+        figures.plt.close(fig)
+    # lighter fill for lower λ, so the map reads in grey
+    colours = figures.material_colours(demo.model)
+    order = sorted(colours, key=lambda n: demo.model.materials[n].conductivity)
+    lum = [_luminance(colours[n]["fill"]) for n in order]
+    assert all(a >= b for a, b in zip(lum, lum[1:]))
+
+
+def test_temperature_figure_marks_the_minimum_and_has_a_colour_bar(demo):
+    fig = figures.temperature_figure(demo, isotherm_step=2.5)
+    try:
+        marker = _by_gid(fig, "theta-si-min-marker")[0]
+        x, y = marker.get_xdata()[0], marker.get_ydata()[0]
+        assert (x, y) == pytest.approx(demo.surface_temperature_case.theta_si_min_at)
+        bar_axes = _by_gid(fig, "colour-bar")
+        assert bar_axes
+        lo, hi = sorted(bar_axes[0].get_ylim())
+        assert lo <= 0.0 and hi >= 20.0        # θe and θi of the demo
+        assert any("every 2.5 K" in t for t in _texts(fig))
+        assert any(f"{demo.theta_si_min:.2f}" in t for t in _texts(fig))
+        ax = fig.axes[0]
+        assert ax.get_aspect() == 1.0
+        assert ax.get_xlabel() == "x [mm]"
+    finally:
+        figures.plt.close(fig)
+
+
+def test_heat_flux_figure_is_log_scaled_and_arrows_point_outwards(demo):
+    import matplotlib.colors as mcolors
+    fig = figures.heat_flux_figure(demo)
+    try:
+        fill = _by_gid(fig, "heat-flux-fill")[0]
+        assert isinstance(fill.norm, mcolors.LogNorm)
+        arrows = _by_gid(fig, "flow-arrows")[0]
+        xy = arrows.get_offsets()
+        u = arrows.U
+        wall = (xy[:, 1] > 1300) | (xy[:, 1] < -1000)       # far from the slab
+        assert wall.sum() > 5
+        assert np.all(u[wall] > 0)       # heat flows from inside (x < 0) to outside (+x)
+    finally:
+        figures.plt.close(fig)
+
+
+def test_surface_temperature_figure_draws_the_users_criterion(demo):
+    fig = figures.surface_temperature_figure(demo, f_rsi_min=0.75)
+    try:
+        line = _by_gid(fig, "f-rsi-criterion")[0]
+        assert line.get_ydata()[0] == pytest.approx(0.0 + 0.75 * 20.0)
+        assert _by_gid(fig, "theta-si-min-marker")
+    finally:
+        figures.plt.close(fig)
+    fig = figures.surface_temperature_figure(demo, f_rsi_min=None)
+    try:
+        assert not _by_gid(fig, "f-rsi-criterion")
+    finally:
+        figures.plt.close(fig)
+
+
+def test_mesh_figure_shows_each_boundary_condition_and_surface(demo):
+    fig = figures.mesh_figure(demo)
+    try:
+        labels = [t.get_text() for t in _by_gid(fig, "legend")[0].get_texts()]
+        assert any("interior" in t for t in labels)
+        assert any("exterior" in t for t in labels)
+        assert any("adiabatic" in t for t in labels)
+        for j in range(len(demo.model.surfaces)):
+            assert _by_gid(fig, f"surface-label-S{j + 1}")
+    finally:
+        figures.plt.close(fig)
+
+
+def test_files_are_300_dpi_non_blank_and_repeatable(demo, tmp_path):
+    fig = figures.build_figure("surface_temperature", demo, f_rsi_min=0.7)
+    try:
+        first = figures.save(fig, tmp_path / "a")
+        second = figures.save(fig, tmp_path / "b")
+    finally:
+        figures.plt.close(fig)
+    assert [p.suffix for p in first] == [".png", ".svg", ".pdf"]
+    for p, q in zip(first, second):
+        assert p.read_bytes() == q.read_bytes(), p.name
+    with Image.open(first[0]) as im:
+        assert im.info["dpi"][0] == pytest.approx(300, abs=0.5)
+        pixels = np.asarray(im.convert("RGB"), dtype=float)
+    assert pixels.std() > 10
+    assert len(np.unique(pixels.reshape(-1, 3)[::50], axis=0)) > 20
+    svg = first[1].read_text(encoding="utf-8")
+    assert "θsi,min" in svg and "fRsi = 0.7" in svg
+    assert first[2].read_bytes().startswith(b"%PDF")
