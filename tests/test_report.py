@@ -1,0 +1,239 @@
+"""report.html and report.pdf: content, rendering, and writing whole or not at all.
+
+Renders with headless Chromium (Debian package chromium) and pdftoppm /
+pdftotext (Debian package poppler-utils); those tests skip when the tools are
+absent (.ci/run installs them). Criteria quoted in the report are common
+practice (fRsi 0.75 UK dwellings, 0.70 Germany; no single source).
+"""
+
+import os
+import re
+import shutil
+import subprocess
+from pathlib import Path
+
+import numpy as np
+import pytest
+from PIL import Image
+
+from bridgecalc import outputs, report, stamp as stamps
+from bridgecalc.cli import main
+from bridgecalc.errors import BridgecalcError
+from bridgecalc.pipeline import load, run
+
+CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")
+PDFTOPPM = shutil.which("pdftoppm")
+PDFTOTEXT = shutil.which("pdftotext")
+
+HAND_STAMP = stamps.Stamp("0.1.0", "0123456789abcdef", "2024-01-02T03:04:05Z", 58, 0,
+                          [stamps.CaseSummary("iso10211-case2", "ISO 10211:2017 Annex C, case 2",
+                                              10, 0)])
+
+
+@pytest.fixture(scope="module")
+def demo(geometries):
+    return run(load(geometries / "slab_edge.py"))
+
+
+@pytest.fixture(scope="module")
+def written(demo, tmp_path_factory):
+    out = tmp_path_factory.mktemp("report") / "demo"
+    outputs.write_outputs(demo, out, f_rsi_min=0.75, dimension_system="external",
+                          stamp=HAND_STAMP)
+    return out
+
+
+def _text(content):
+    parts = []
+    for b in content.blocks:
+        if isinstance(b, report.Table):
+            parts += b.header + [c for row in b.rows for c in row] + [b.caption]
+        elif isinstance(b, report.KeyFigures):
+            parts += [" ".join(item) for item in b.items]
+        elif hasattr(b, "text"):
+            parts.append(b.text)
+        elif isinstance(b, report.Figure):
+            parts.append(b.caption)
+    return "\n".join(parts)
+
+
+def test_every_output_file_is_written(written):
+    names = {p.name for p in written.iterdir()}
+    expected = {"results.json", "results.csv", "field.vtu", "report.html", "report.pdf"}
+    expected |= {f"{n}.{ext}" for n in ("materials", "mesh", "temperature", "heat_flux",
+                                         "surface_temperature") for ext in ("png", "svg", "pdf")}
+    assert names == expected
+    assert not [p for p in written.parent.iterdir() if p.name.startswith(".")]
+
+
+def test_html_is_self_contained_and_carries_the_inputs_and_results(demo, written):
+    page = (written / "report.html").read_text(encoding="utf-8")
+    assert not re.search(r"""(src|href)=["'](?!data:|#)""", page)
+    assert "http://" not in page and "https://" not in page
+    assert page.count("data:image/png;base64,") == 5
+    for name, material in demo.model.materials.items():
+        assert name in page and material.source in page
+    assert "0.13" in page and "0.25" in page and "0.04" in page     # both resistances
+    flank = demo.heat_flow_case.flanking[0]
+    assert f"{flank.u_value:.4f}" in page and f"{flank.length:g}" in page
+    assert "as stated by the model: external dimensions" in page
+    assert f"{demo.coupling_coefficient:.4f}" in page
+    assert f"{demo.psi:.4f}".replace("-", "−") in page
+    assert f"{demo.theta_si_min:.2f}" in page and f"{demo.f_rsi:.3f}" in page
+    assert "PASS against the criterion given for this run" in page
+    assert "58 compared quantities passed, 0 failed" in page and "2024-01-02T03:04:05Z" in page
+    assert "do not replace, the judgement of a qualified practitioner" in page
+    assert "No mesh refinement study was run" in page
+
+
+def test_verdicts_and_common_practice_wording(demo):
+    failing = _text(report.report_content(demo, {}, f_rsi_min=0.99, stamp=HAND_STAMP))
+    assert "FAIL against the criterion" in failing and "risk of mould growth" in failing
+    none = _text(report.report_content(demo, {}, f_rsi_min=None, stamp=None))
+    assert "Common practice, no single source" in none
+    assert "0.75" in none and "0.70 in Germany" in none
+    assert "were not run for this report" in none
+
+
+def test_dimension_system_from_the_name_or_not_stated(demo):
+    system, note = report.stated_dimension_system(demo.model)
+    assert system == "external" and "in its name" in note
+    import dataclasses
+    unnamed = dataclasses.replace(demo.model, name="a detail")
+    system, note = report.stated_dimension_system(unnamed)
+    assert system is None and note.startswith("not stated")
+
+
+def test_convergence_table_and_plain_words_when_not_converged(demo):
+    data = demo.to_dict()
+    levels = [{"nodes": 1000 * k, "triangles": 2000 * k, "heat_flow": 10.2 + 0.01 / k,
+               "coupling_coefficient": 0.51, "psi": -0.0048, "theta_si_min": 19.04}
+              for k in (1, 2, 4)]
+    data["convergence"] = {"levels": levels, "psi_extrapolated": -0.0047,
+                           "psi_error_estimate": 0.0002, "iso_doubling_change": 0.021,
+                           "criterion_met": False}
+    text = _text(report.report_content(demo, {}, results_dict=data))
+    assert "did not converge" in text
+    assert "2.1 %" in text
+    table = [b for b in report.report_content(demo, {}, results_dict=data).blocks
+             if isinstance(b, report.Table) and "level" in b.header][0]
+    assert len(table.rows) == 3 and table.rows[2][1] == "4000"
+    data["convergence"]["criterion_met"] = True
+    data["convergence"]["iso_doubling_change"] = 0.004
+    text = _text(report.report_content(demo, {}, results_dict=data))
+    assert "did not converge" not in text and "criterion of ISO 10211 is met" in text
+
+
+def _chromium_shot(html: Path, png: Path, profile: Path):
+    subprocess.run([CHROMIUM, "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic",
+                    "--no-first-run", "--disable-background-networking",
+                    "--disable-component-update", "--disable-sync",
+                    f"--user-data-dir={profile}", "--hide-scrollbars",
+                    "--window-size=1000,7000", f"--screenshot={png}", html.as_uri()],
+                   check=True, capture_output=True, timeout=120)
+    with Image.open(png) as im:
+        return np.asarray(im.convert("RGB"), dtype=float)
+
+
+def _coloured(pixels):
+    """Share of strongly coloured pixels (channel spread > 60)."""
+    return float(((pixels.max(axis=2) - pixels.min(axis=2)) > 60).mean())
+
+
+@pytest.mark.skipif(CHROMIUM is None, reason="chromium not installed (Debian package chromium)")
+def test_html_renders_in_chromium_with_its_figures(written, tmp_path):
+    shot = _chromium_shot(written / "report.html", tmp_path / "page.png", tmp_path / "p1")
+    assert shot.std() > 20                        # not blank
+    # the same page without its images: the figures are what colours the page
+    page = (written / "report.html").read_text(encoding="utf-8")
+    bare = tmp_path / "bare.html"
+    bare.write_text(re.sub(r'<img [^>]*>', "", page), encoding="utf-8")
+    plain = _chromium_shot(bare, tmp_path / "bare.png", tmp_path / "p2")
+    assert _coloured(shot) > 0.03
+    assert _coloured(shot) > 5 * _coloured(plain)
+
+
+@pytest.mark.skipif(PDFTOPPM is None or PDFTOTEXT is None,
+                    reason="pdftoppm/pdftotext not installed (Debian package poppler-utils)")
+def test_pdf_pages_render_with_text_and_figures(demo, written, tmp_path):
+    subprocess.run([PDFTOPPM, "-r", "40", "-png", str(written / "report.pdf"),
+                    str(tmp_path / "page")], check=True, timeout=120)
+    pages = sorted(tmp_path.glob("page-*.png"))
+    assert len(pages) >= 4
+    coloured = []
+    for p in pages:
+        with Image.open(p) as im:
+            pixels = np.asarray(im.convert("RGB"), dtype=float)
+        assert pixels.std() > 5, p.name
+        coloured.append(_coloured(pixels))
+    # materials, temperature and heat-flux figures colour their pages; text pages
+    # stay near-grey (below 1 % coloured pixels)
+    assert sum(c > 0.02 for c in coloured) >= 3
+    assert sum(c < 0.01 for c in coloured) >= 2
+    text = subprocess.run([PDFTOTEXT, str(written / "report.pdf"), "-"], check=True,
+                          capture_output=True, text=True, timeout=60).stdout
+    assert "Ψ" in text and "fRsi" in text and "PASS" in text
+    for name in demo.model.materials:
+        assert name in text
+    assert "qualified practitioner" in text
+    assert "58 compared quantities passed" in text
+
+
+def test_pdf_and_html_are_repeatable(demo, written, tmp_path):
+    from bridgecalc import pdfreport
+    figs = {n: written / f"{n}.png" for n in ("materials", "temperature")}
+    texts, pdfs = [], []
+    for k in range(2):
+        content = report.report_content(demo, figs, 0.75, HAND_STAMP, "external")
+        texts.append(report.render_html(content))
+        path = tmp_path / f"r{k}.pdf"
+        pdfreport.write_pdf(content, path)
+        pdfs.append(path.read_bytes())
+    assert texts[0] == texts[1]
+    assert pdfs[0] == pdfs[1]
+
+
+def test_bad_options_write_nothing(demo, tmp_path):
+    with pytest.raises(BridgecalcError, match="--f-rsi-min"):
+        outputs.write_outputs(demo, tmp_path / "x", f_rsi_min=1.5, stamp=HAND_STAMP)
+    with pytest.raises(BridgecalcError, match="--isotherm-step"):
+        outputs.write_outputs(demo, tmp_path / "x", isotherm_step=0, stamp=HAND_STAMP)
+    assert not any(tmp_path.iterdir())
+
+
+def test_cli_rejects_a_bad_criterion_with_exit_2(geometries, tmp_path, capsys):
+    out = tmp_path / "out"
+    code = main(["run", str(geometries / "slab_edge.py"), "--out", str(out),
+                 "--f-rsi-min", "75"])
+    assert code == 2
+    assert "--f-rsi-min" in capsys.readouterr().err
+    assert not out.exists()
+
+
+def test_a_failure_while_writing_leaves_nothing(demo, tmp_path, monkeypatch):
+    def broken(*_):
+        raise RuntimeError("disk full")
+    # results.json is already in the staging folder when drawing fails
+    monkeypatch.setattr(outputs, "draw_figures", broken)
+    with pytest.raises(RuntimeError):
+        outputs.write_outputs(demo, tmp_path / "out", stamp=HAND_STAMP, workers=1)
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_stamp_is_cached_per_build(tmp_path, monkeypatch):
+    monkeypatch.setenv("BRIDGECALC_CACHE_DIR", str(tmp_path))
+    from bridgecalc.validation import CheckRow
+    calls = []
+
+    def checks():
+        calls.append(1)
+        return [CheckRow("c", "a source", "x", 1.0, 1.0, 0.1),
+                CheckRow("c", "a source", "y", 2.0, 1.0, 0.1)]
+    first = stamps.current_stamp(checks)
+    second = stamps.current_stamp(checks)
+    assert len(calls) == 1
+    assert (first.passed, first.failed) == (1, 1) and not first.all_passed
+    assert second.from_cache and second.checked_at == first.checked_at
+    assert (second.passed, second.failed) == (1, 1)
+    assert re.fullmatch(r"\d{4}-\d\d-\d\dT\d\d:\d\d:\d\dZ", first.checked_at)
+    assert os.listdir(tmp_path)
