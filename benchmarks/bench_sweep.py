@@ -9,7 +9,10 @@ Both runs are made here, one after the other, so the ratio compares like with
 like; the 1-worker run is the baseline. Each time is the whole ``sweep`` call
 (worker start-up included), not the writing of the outputs. The load average
 is printed before and after, because other work on the machine changes the
-figures. The rows of both runs must be identical (same input, same results).
+figures; so is the CPU time the worker processes used (getrusage of the
+reaped children): when CPU time is about the same for 1 and 2 workers but the
+2-worker wall time is not about half, the cores were busy with other work.
+The rows of both runs must be identical (same input, same results).
 
 The 100 variants: insulation_thickness_mm 100, 120, ..., 280 (10 values) ×
 thermal_break false, true × slab_thickness_mm 180, 200, ..., 260 (5 values),
@@ -23,6 +26,7 @@ from __future__ import annotations
 import argparse
 import os
 import platform
+import resource
 import time
 from pathlib import Path
 
@@ -43,10 +47,17 @@ def family(small: bool) -> dict:
             "slab_thickness_mm": [180.0 + 20.0 * k for k in range(5)]}
 
 
+def children_cpu() -> float:
+    usage = resource.getrusage(resource.RUSAGE_CHILDREN)
+    return usage.ru_utime + usage.ru_stime
+
+
 def timed_sweep(vary, workers):
+    """Wall time [s], CPU time of the workers [s], rows."""
+    cpu = children_cpu()
     start = time.perf_counter()
     rows = sweep(BALCONY, vary, workers=workers)
-    return time.perf_counter() - start, rows
+    return time.perf_counter() - start, children_cpu() - cpu, rows
 
 
 def main() -> int:
@@ -63,10 +74,12 @@ def main() -> int:
     print(f"load average before: {' '.join(f'{x:.2f}' for x in os.getloadavg())}")
     print(f"sweep: {count} variants of {BALCONY.name}")
 
-    t2, rows2 = timed_sweep(vary, 2)
-    print(f"  2 workers: {t2:7.1f} s  ({t2 / count:.2f} s per variant)")
-    t1, rows1 = timed_sweep(vary, 1)
-    print(f"  1 worker:  {t1:7.1f} s  ({t1 / count:.2f} s per variant)  baseline")
+    t2, cpu2, rows2 = timed_sweep(vary, 2)
+    print(f"  2 workers: {t2:7.1f} s wall ({t2 / count:.2f} s per variant), "
+          f"workers' CPU {cpu2:.1f} s")
+    t1, cpu1, rows1 = timed_sweep(vary, 1)
+    print(f"  1 worker:  {t1:7.1f} s wall ({t1 / count:.2f} s per variant), "
+          f"workers' CPU {cpu1:.1f} s  baseline")
     ratio = t1 / t2
     failed = sum(not r.ok for r in rows2)
     same = rows1 == rows2
