@@ -262,6 +262,9 @@ def material_edges(mesh, label) -> np.ndarray:
 def segments_path(segments, **style) -> PathPatch:
     """Many line segments as one compound path: one element in SVG and PDF.
 
+    Add it with ``ax.add_artist``: the plot limits are set explicitly, and
+    ``add_patch`` would walk every segment to update them.
+
     Parameters
     ----------
     segments : ndarray, shape (S, 2, 2)
@@ -273,6 +276,47 @@ def segments_path(segments, **style) -> PathPatch:
     path = PlotPath(segments.reshape(-1, 2), codes) if len(segments) else PlotPath(
         np.zeros((1, 2)), [PlotPath.MOVETO])
     return PathPatch(path, fill=False, **style)
+
+
+def chained_path(segments, **style) -> PathPatch:
+    """Segments joined end to end into polylines, so dash patterns run on along them.
+
+    Parameters
+    ----------
+    segments : ndarray, shape (S, 2, 2)
+        Segment end points [length_unit]; shared end points must be equal.
+    """
+    segments = np.asarray(segments, dtype=float).reshape(-1, 2, 2)
+    keys = [tuple(np.round(p, 9)) for p in segments.reshape(-1, 2)]
+    touching: dict = {}
+    for k in range(len(segments)):
+        for end in (0, 1):
+            touching.setdefault(keys[2 * k + end], []).append((k, end))
+    used = np.zeros(len(segments), dtype=bool)
+    # start at free ends first, then whatever is left (closed loops)
+    starts = [k for k in range(len(segments))
+              if len(touching[keys[2 * k]]) == 1 or len(touching[keys[2 * k + 1]]) == 1]
+    verts, codes = [], []
+    for seed in starts + list(range(len(segments))):
+        if used[seed]:
+            continue
+        end = 0 if len(touching[keys[2 * seed]]) == 1 or seed not in starts else 1
+        line = [segments[seed, end], segments[seed, 1 - end]]
+        used[seed] = True
+        point = keys[2 * seed + 1 - end]
+        while True:
+            nxt = [(k, e) for k, e in touching[point] if not used[k]]
+            if not nxt:
+                break
+            k, e = nxt[0]
+            used[k] = True
+            line.append(segments[k, 1 - e])
+            point = keys[2 * k + 1 - e]
+        verts += line
+        codes += [PlotPath.MOVETO] + [PlotPath.LINETO] * (len(line) - 1)
+    if not verts:
+        return segments_path(segments, **style)
+    return PathPatch(PlotPath(np.asarray(verts), codes), fill=False, **style)
 
 
 def _material_codes(result):
@@ -359,12 +403,12 @@ def materials_figure(result):
         style = material_colours(model)
         for region in model.regions:
             s = style[region.material]
-            ax.add_patch(Polygon(np.asarray(region.vertices, float), closed=True,
+            ax.add_artist(Polygon(np.asarray(region.vertices, float), closed=True,
                                  facecolor=s["fill"], edgecolor=s["line"], hatch=s["hatch"],
                                  linewidth=0.0))
         names, codes = _material_codes(result)
         xy = result.mesh.nodes / model.metres_per_unit
-        ax.add_patch(segments_path(xy[material_edges(result.mesh, codes)], edgecolor=INK,
+        ax.add_artist(segments_path(xy[material_edges(result.mesh, codes)], edgecolor=INK,
                                    linewidth=0.7, gid="material-edges"))
         handles = [Patch(facecolor=style[n]["fill"], edgecolor=style[n]["line"],
                          hatch=style[n]["hatch"], linewidth=0.4,
@@ -408,17 +452,17 @@ def mesh_figure(result):
             f"{result.element} elements; outline by boundary condition")
         style = material_colours(model)
         for region in model.regions:
-            ax.add_patch(Polygon(np.asarray(region.vertices, float), closed=True,
+            ax.add_artist(Polygon(np.asarray(region.vertices, float), closed=True,
                                  facecolor=mcolors.to_rgba(style[region.material]["fill"], 0.4),
                                  edgecolor="none"))
         every = material_edges(mesh, np.arange(mesh.triangle_count))
-        ax.add_patch(segments_path(xy[every], edgecolor=INK, linewidth=0.15, alpha=0.85,
+        ax.add_artist(segments_path(xy[every], edgecolor=INK, linewidth=0.15, alpha=0.85,
                                    gid="mesh-edges"))
         handles = []
         for kind, seg in _outline_segments(result).items():
             if len(seg):
                 st = OUTLINE_STYLE[kind]
-                ax.add_patch(segments_path(seg, edgecolor=st["colors"], linewidth=st["linewidths"],
+                ax.add_artist(chained_path(seg, edgecolor=st["colors"], linewidth=st["linewidths"],
                                            linestyle=st["linestyles"], capstyle="butt",
                                            gid=f"outline-{kind}"))
                 handles.append(Line2D([], [], color=st["colors"], lw=st["linewidths"],
@@ -476,7 +520,7 @@ def temperature_figure(result, isotherm_step=None):
             ax.clabel(iso, fmt=lambda v: f"{v:g}", fontsize=6.5, inline=True,
                       inline_spacing=2)
         names, codes = _material_codes(result)
-        ax.add_patch(segments_path(xy[material_edges(mesh, codes)], edgecolor="white",
+        ax.add_artist(segments_path(xy[material_edges(mesh, codes)], edgecolor="white",
                                    linewidth=0.6, alpha=0.7))
         _mark_minimum(ax, result)
         _frame(ax, result)
@@ -580,7 +624,7 @@ def heat_flux_figure(result):
                              norm=mcolors.LogNorm(vmin=floor, vmax=top), rasterized=True)
         shade.set_gid("heat-flux-fill")
         names, codes = _material_codes(result)
-        ax.add_patch(segments_path(xy[material_edges(mesh, codes)], edgecolor="white",
+        ax.add_artist(segments_path(xy[material_edges(mesh, codes)], edgecolor="white",
                                    linewidth=0.5, alpha=0.6))
         _flow_arrows(ax, triangulation, xy, q, magnitude)
         _frame(ax, result)

@@ -80,7 +80,8 @@ def _can_fork() -> bool:
     return sys.platform.startswith("linux") and "fork" in multiprocessing.get_all_start_methods()
 
 
-def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=None) -> dict:
+def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=None,
+                 meanwhile=None) -> dict:
     """Every figure as PNG, SVG and PDF in ``folder``.
 
     Parameters
@@ -88,6 +89,8 @@ def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=Non
     workers : int, optional
         Processes to draw in; default 2 where forking is available (and more
         than one core), else drawing happens in this process.
+    meanwhile : callable, optional
+        Called in this process while the workers draw (other outputs).
 
     Returns
     -------
@@ -107,8 +110,13 @@ def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=Non
         if workers > 1 and _can_fork():
             context = multiprocessing.get_context("fork")
             with ProcessPoolExecutor(max_workers=workers, mp_context=context) as pool:
-                done = dict(pool.map(_draw, order))
+                futures = [pool.submit(_draw, n) for n in order]
+                if meanwhile is not None:
+                    meanwhile()
+                done = dict(f.result() for f in futures)
         else:
+            if meanwhile is not None:
+                meanwhile()
             done = dict(_draw(n) for n in order)
     finally:
         _JOB = None
@@ -154,14 +162,20 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
         data = result.to_dict()
         (staging / RESULTS_FILE).write_text(
             json.dumps(data, indent=2, ensure_ascii=False) + "\n", encoding="utf-8")
-        figure_files = draw_figures(result, staging, isotherm_step, f_rsi_min, workers)
-        exports.write_vtu(result, staging / exports.VTU_FILE)
-        system, _ = report.stated_dimension_system(result.model, dimension_system)
-        (staging / exports.CSV_FILE).write_text(
-            exports.csv_text(exports.headline_row(result, f_rsi_min, system, __version__)),
-            encoding="utf-8")
-        if stamp is None:
-            stamp = stamps.current_stamp()
+
+        def other_outputs():
+            nonlocal stamp
+            exports.write_vtu(result, staging / exports.VTU_FILE)
+            system, _ = report.stated_dimension_system(result.model, dimension_system)
+            (staging / exports.CSV_FILE).write_text(
+                exports.csv_text(exports.headline_row(result, f_rsi_min, system, __version__)),
+                encoding="utf-8")
+            if stamp is None:
+                stamp = stamps.current_stamp()
+            pdfreport.prepare()               # imports and fonts, while figures are drawn
+
+        figure_files = draw_figures(result, staging, isotherm_step, f_rsi_min, workers,
+                                    meanwhile=other_outputs)
         files = [RESULTS_FILE, exports.CSV_FILE, exports.VTU_FILE, REPORT_FILE,
                  REPORT_PDF_FILE] + [p.name for n in figure_files for p in figure_files[n]]
         content = report.report_content(

@@ -43,6 +43,13 @@ def _fonts():
     addMapping(FONT, 1, 1, FONT_BOLD)
 
 
+def prepare() -> None:
+    """Import the PDF libraries and register the fonts ahead of :func:`write_pdf`."""
+    import pypdf  # noqa: F401
+    import reportlab.platypus  # noqa: F401
+    _fonts()
+
+
 def _styles():
     from reportlab.lib.colors import HexColor
     from reportlab.lib.styles import ParagraphStyle

@@ -1,0 +1,82 @@
+"""Time the outputs of a run against the solve of the same run.
+
+Each repeat is a fresh Python process that solves the demo junction and then
+writes every output (results.json, 15 figure files, field.vtu, results.csv,
+report.html, report.pdf), so import costs of matplotlib, ReportLab and meshio
+count as part of the outputs. The validation stamp is taken from the cache
+(it is filled once before the repeats; its one-time cost is printed apart).
+
+Prints, per repeat and as medians: solve time, output time, their difference
+and ratio, in wall-clock and CPU seconds (CPU includes the figure workers).
+The target of issue 5 is outputs written in under 3 s beyond the solve on
+the demo, read from the "overhead" line. Nothing is asserted.
+
+    python benchmarks/bench_outputs.py [--repeats N] [--workers N]
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+
+CHILD = r"""
+import json, os, resource, sys, tempfile, time
+from pathlib import Path
+def cpu():
+    s, c = resource.getrusage(resource.RUSAGE_SELF), resource.getrusage(resource.RUSAGE_CHILDREN)
+    return s.ru_utime + s.ru_stime + c.ru_utime + c.ru_stime
+root = Path(sys.argv[1]); workers = None if sys.argv[2] == "auto" else int(sys.argv[2])
+w0, c0 = time.perf_counter(), cpu()
+from bridgecalc.pipeline import load, run
+result = run(load(root / "geometries" / "slab_edge.py"))
+w1, c1 = time.perf_counter(), cpu()
+from bridgecalc.outputs import write_outputs
+with tempfile.TemporaryDirectory() as tmp:
+    write_outputs(result, Path(tmp) / "out", f_rsi_min=0.75, dimension_system="external",
+                  workers=workers)
+w2, c2 = time.perf_counter(), cpu()
+print(json.dumps({"solve": w1 - w0, "outputs": w2 - w1, "solve_cpu": c1 - c0,
+                  "outputs_cpu": c2 - c1}))
+"""
+
+
+def main() -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--repeats", type=int, default=3)
+    parser.add_argument("--workers", default="auto", help="figure processes, or 'auto'")
+    args = parser.parse_args()
+    from pathlib import Path
+    root = Path(__file__).resolve().parent.parent
+
+    start = time.perf_counter()
+    from bridgecalc import stamp
+    cached = stamp.load_cached() is not None
+    stamp.current_stamp()
+    print(f"validation stamp: {'cached' if cached else 'computed now'} "
+          f"({time.perf_counter() - start:.2f} s, paid once per build)")
+
+    rows = []
+    for k in range(args.repeats):
+        out = subprocess.run([sys.executable, "-c", CHILD, str(root), args.workers],
+                             check=True, capture_output=True, text=True).stdout
+        row = json.loads(out.strip().splitlines()[-1])
+        rows.append(row)
+        print(f"repeat {k + 1}: solve {row['solve']:.2f} s, outputs {row['outputs']:.2f} s "
+              f"(ratio {row['outputs'] / row['solve']:.2f}); CPU solve {row['solve_cpu']:.2f} s, "
+              f"outputs {row['outputs_cpu']:.2f} s")
+    med = {key: statistics.median(r[key] for r in rows) for key in rows[0]}
+    print(f"median: solve {med['solve']:.2f} s, outputs {med['outputs']:.2f} s, "
+          f"ratio outputs/solve {med['outputs'] / med['solve']:.2f}")
+    print(f"overhead (outputs beyond the solve, wall): {med['outputs']:.2f} s "
+          f"(target < 3 s); CPU {med['outputs_cpu']:.2f} s "
+          f"(ratio to solve CPU {med['outputs_cpu'] / med['solve_cpu']:.2f})")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
