@@ -150,8 +150,8 @@ def parse_vary(module, items, origin) -> dict[str, list]:
         name, sep, text = item.partition("=")
         name, text = name.strip(), text.strip()
         if not sep or not name or not text:
-            raise BridgecalcError(f"--vary {item!r}: expected NAME=START:STOP:COUNT "
-                                  f"or NAME=A,B,C")
+            raise BridgecalcError(f"{origin}: --vary {item!r}: expected "
+                                  f"NAME=START:STOP:COUNT or NAME=A,B,C")
         default = _script_parameter(module, name, "--vary", origin)
         if name in vary:
             raise BridgecalcError(f"{origin}: --vary {name}: given more than once")
@@ -183,7 +183,7 @@ def _parse_range(name, text, default, origin) -> list:
     if len(parts) != 3:
         raise BridgecalcError(f"{where}: expected START:STOP:COUNT")
     try:
-        start, stop = float(parts[0]), float(parts[1])
+        start, stop = (float(scripts.parse_value(part, default)) for part in parts[:2])
     except ValueError:
         raise BridgecalcError(f"{where}: START and STOP must be numbers") from None
     try:
