@@ -83,6 +83,9 @@ def main() -> int:
     ratio = t1 / t2
     failed = sum(not r.ok for r in rows2)
     same = rows1 == rows2
+    if not same:            # e.g. the code changed under a long run
+        differ = [a.index for a, b in zip(rows1, rows2) if a != b]
+        print(f"  rows that differ: {len(differ)}, first {differ[:5]}")
     print(f"  speed-up 2 vs 1 workers: {ratio:.2f} x")
     print(f"  failed variants: {failed}; 1- and 2-worker rows identical: {same}")
     print(f"load average after:  {' '.join(f'{x:.2f}' for x in os.getloadavg())}")

@@ -233,7 +233,8 @@ def _convergence_status(result) -> str:
     return "criterion met" if met else "criterion not met"
 
 
-def run_variant(script: str, index: int, params: dict) -> VariantResult:
+def run_variant(script: str, index: int, params: dict,
+                run_options: dict | None = None) -> VariantResult:
     """Build and compute one variant; failures become a ``failed:`` row.
 
     Parameters
@@ -244,12 +245,14 @@ def run_variant(script: str, index: int, params: dict) -> VariantResult:
         The variant's position in the sweep.
     params : dict
         Parameters overriding the script's defaults.
+    run_options : dict, optional
+        Keyword arguments for :func:`bridgecalc.pipeline.run`.
     """
     from .pipeline import load, run
     full = dict(params)
     try:
         with _GMSH_LOCK:
-            result = run(load(script, **params))
+            result = run(load(script, **params), **(run_options or {}))
     except BridgecalcError as exc:
         return VariantResult(index, full, f"failed: {exc}")
     except Exception as exc:        # a bug or a library failure: report it, go on
@@ -321,7 +324,8 @@ def default_workers() -> int:
 
 def sweep(script, vary: dict, workers: int | None = None, scheduler: str | None = None,
           base_params: dict | None = None, progress=False,
-          timeout: float | None = None) -> list[VariantResult]:
+          timeout: float | None = None, run_options: dict | None = None
+          ) -> list[VariantResult]:
     """Run every combination of ``vary`` over a geometry script.
 
     Parameters
@@ -345,6 +349,10 @@ def sweep(script, vary: dict, workers: int | None = None, scheduler: str | None 
         called with each :class:`VariantResult` as it completes.
     timeout : float, optional
         Limit for the whole sweep [s]; default none.
+    run_options : dict, optional
+        Keyword arguments passed to :func:`bridgecalc.pipeline.run` for every
+        variant (mesh options, element, convergence-study settings); default:
+        the same calculation as ``bridgecalc run``.
 
     Returns
     -------
@@ -372,13 +380,14 @@ def sweep(script, vary: dict, workers: int | None = None, scheduler: str | None 
     # every parameter spelled out: each row is reproducible on its own
     combos = variants(vary, {**module.PARAMETERS, **base})
     if scheduler is not None:
-        rows = _sweep_dask(script, combos, scheduler, progress, timeout)
+        rows = _sweep_dask(script, combos, scheduler, progress, timeout, run_options)
     else:
         if workers is None:
             workers = default_workers()
         if workers < 1:
             raise BridgecalcError(f"--workers must be at least 1, got {workers}")
-        rows = _sweep_local(script, combos, min(workers, len(combos)), progress, timeout)
+        rows = _sweep_local(script, combos, min(workers, len(combos)), progress, timeout,
+                            run_options)
     return sorted(rows, key=lambda r: r.index)
 
 
@@ -394,7 +403,8 @@ def _timed_out(timeout) -> BridgecalcError:
                            f"nothing written")
 
 
-def _sweep_local(script, combos, workers, progress, timeout) -> list[VariantResult]:
+def _sweep_local(script, combos, workers, progress, timeout, run_options
+                 ) -> list[VariantResult]:
     import multiprocessing
     context = multiprocessing.get_context("spawn")
     rows = []
@@ -406,7 +416,7 @@ def _sweep_local(script, combos, workers, progress, timeout) -> list[VariantResu
     try:
         with ProcessPoolExecutor(max_workers=workers, mp_context=context,
                                  initializer=_single_threaded_worker) as pool:
-            futures = {pool.submit(run_variant, script, i, params): (i, params)
+            futures = {pool.submit(run_variant, script, i, params, run_options): (i, params)
                        for i, params in enumerate(combos)}
             report = _reporter(progress, len(combos))
             try:
@@ -432,7 +442,8 @@ def _sweep_local(script, combos, workers, progress, timeout) -> list[VariantResu
     return rows
 
 
-def _sweep_dask(script, combos, scheduler, progress, timeout) -> list[VariantResult]:
+def _sweep_dask(script, combos, scheduler, progress, timeout, run_options
+                ) -> list[VariantResult]:
     try:
         import distributed
     except ImportError:
@@ -449,7 +460,7 @@ def _sweep_dask(script, combos, scheduler, progress, timeout) -> list[VariantRes
     try:
         futures = {}
         for i, params in enumerate(combos):
-            future = client.submit(run_variant, script, i, params, pure=False,
+            future = client.submit(run_variant, script, i, params, run_options, pure=False,
                                    key=f"bridgecalc-variant-{i}-{os.getpid()}-"
                                        f"{time.time_ns()}")
             futures[future] = (i, params)
