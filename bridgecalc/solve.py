@@ -14,6 +14,15 @@ resistance surface and the residual of the discrete equations at the held
 nodes, so the flows balance to round-off.
 
 This module knows nothing of Ψ or fRsi: it returns temperatures and flows.
+
+Linear (P1) triangles are assembled here directly with NumPy, from the
+closed-form element matrices (constant gradients: K_e = λ (b bᵀ + c cᵀ)/(4A);
+edge mass L/6 [[2, 1], [1, 2]]; Zienkiewicz & Taylor, *The Finite Element
+Method*, vol. 1, ch. 4 and 6, any edition), which is an order of magnitude
+faster than the generic quadrature path; quadratic (P2) triangles use
+scikit-fem. Both give the same matrices to round-off (a test compares them).
+The linear systems go to :mod:`bridgecalc.linsolve`, which picks the solver
+by size.
 """
 
 from __future__ import annotations
@@ -22,12 +31,12 @@ from dataclasses import dataclass
 
 import numpy as np
 import scipy.sparse as sp
-import scipy.sparse.linalg as spla
 from skfem import (Basis, BilinearForm, ElementTriP1, ElementTriP2, FacetBasis,
                    LinearForm)
 from skfem.helpers import dot, grad
 
 from .errors import ModelError
+from .linsolve import SPDSolver
 from .mesh import Mesh
 
 ELEMENTS = {"P1": ElementTriP1, "P2": ElementTriP2}
@@ -156,8 +165,77 @@ class TemperatureField:
         return float(value[k]), xy
 
 
+def p1_element_stiffness(nodes, triangles, conductivity) -> np.ndarray:
+    """Element conduction matrices of linear triangles [W/(m·K)].
+
+    K_e = λ (b bᵀ + c cᵀ) / (4A), with b_i = y_j − y_k, c_i = x_k − x_j over the
+    cyclic vertex triples (i, j, k) and A the triangle's area (Zienkiewicz &
+    Taylor, vol. 1, linear triangle for the Laplace equation).
+
+    Parameters
+    ----------
+    nodes : ndarray, shape (N, 2)
+        [m]
+    triangles : ndarray of int, shape (T, 3)
+        Counter-clockwise.
+    conductivity : ndarray, shape (T,)
+        λ [W/(m·K)].
+
+    Returns
+    -------
+    ndarray, shape (T, 3, 3)
+    """
+    p = nodes[triangles]
+    x, y = p[:, :, 0], p[:, :, 1]
+    b = np.stack([y[:, 1] - y[:, 2], y[:, 2] - y[:, 0], y[:, 0] - y[:, 1]], axis=1)
+    c = np.stack([x[:, 2] - x[:, 1], x[:, 0] - x[:, 2], x[:, 1] - x[:, 0]], axis=1)
+    twice_area = (x[:, 1] - x[:, 0]) * (y[:, 2] - y[:, 0]) - (x[:, 2] - x[:, 0]) * (y[:, 1] - y[:, 0])
+    scale = np.asarray(conductivity, dtype=float) / (2.0 * twice_area)
+    return scale[:, None, None] * (b[:, :, None] * b[:, None, :] + c[:, :, None] * c[:, None, :])
+
+
+def p1_gradients(nodes, triangles, values) -> np.ndarray:
+    """Constant gradient of a P1 field on each triangle [unit of values per m].
+
+    Returns
+    -------
+    ndarray, shape (T, 2)
+    """
+    p = nodes[triangles]
+    x, y = p[:, :, 0], p[:, :, 1]
+    b = np.stack([y[:, 1] - y[:, 2], y[:, 2] - y[:, 0], y[:, 0] - y[:, 1]], axis=1)
+    c = np.stack([x[:, 2] - x[:, 1], x[:, 0] - x[:, 2], x[:, 1] - x[:, 0]], axis=1)
+    twice_area = (x[:, 1] - x[:, 0]) * (y[:, 2] - y[:, 0]) - (x[:, 2] - x[:, 0]) * (y[:, 1] - y[:, 0])
+    u = values[triangles]
+    return np.stack([(b * u).sum(axis=1), (c * u).sum(axis=1)], axis=1) / twice_area[:, None]
+
+
+def _p1_matrix(n, triangles, element_matrices) -> sp.csr_matrix:
+    rows = np.repeat(triangles, 3, axis=1).ravel()
+    cols = np.tile(triangles, (1, 3)).ravel()
+    return sp.csr_matrix((element_matrices.ravel(), (rows, cols)), shape=(n, n))
+
+
+def _disconnected_from_surfaces(matrix) -> bool:
+    """Whether a connected part of the system exchanges heat with nothing.
+
+    Such a part has only zero row sums (pure conduction, every row of the
+    conduction matrix sums to zero), so its temperature level is undefined.
+    """
+    from scipy.sparse.csgraph import connected_components
+    n_parts, label = connected_components(matrix, directed=False)
+    row_sum = np.asarray(matrix.sum(axis=1)).ravel()
+    diagonal = np.abs(matrix.diagonal())
+    anchored = row_sum > 1e-12 * max(float(diagonal.max(initial=0.0)), 1e-300)
+    return bool(np.bincount(label[anchored], minlength=n_parts).min() == 0)
+
+
 class ConductionProblem:
     """Assembled operators of one mesh, reused by every calculation case.
+
+    Both calculation cases (heat flow, surface temperature) share the
+    conduction matrix, the boundary operators and the sparsity pattern; only
+    the surface-resistance terms change between them.
 
     Parameters
     ----------
@@ -170,48 +248,100 @@ class ConductionProblem:
         Number of surfaces the boundary tags refer to.
     element : str
         ``"P1"`` (linear) or ``"P2"`` (quadratic) Lagrange triangles.
+    solver : str, optional
+        Force a linear-solver backend (see :mod:`bridgecalc.linsolve`).
     """
 
     def __init__(self, mesh: Mesh, conductivity, n_surfaces: int, source=None,
-                 element: str = "P1"):
+                 element: str = "P1", solver: str | None = None):
         if element not in ELEMENTS:
             raise ModelError(f"element must be one of {', '.join(ELEMENTS)}, got {element!r}")
         self.mesh = mesh
         self.element = element
         self.n_surfaces = n_surfaces
+        self.conductivity = np.asarray(conductivity, dtype=float)
+        source = (np.zeros(len(self.conductivity)) if source is None
+                  else np.asarray(source, float))
+        self.source = source
+        self.linear_solver = SPDSolver(solver)
+        self._basis = None
+        self.edge_midpoint_dofs = None
+        if element == "P1":
+            self._assemble_p1(source)
+        else:
+            self._assemble_skfem(source)
+        self.generated = float(self.source_vector.sum())
+        self._point_cache: dict[bytes, sp.csr_matrix] = {}
+
+    @property
+    def n_dofs(self) -> int:
+        """Number of degrees of freedom."""
+        return self._n
+
+    @property
+    def basis(self):
+        """The scikit-fem basis of this problem (built on first use for P1)."""
+        if self._basis is None:
+            self._basis = Basis(self.mesh.skfem, ELEMENTS[self.element]())
+        return self._basis
+
+    def _assemble_p1(self, source):
+        mesh = self.mesh
+        n = mesh.node_count
+        self._n = n
+        self.stiffness = _p1_matrix(n, mesh.triangles,
+                                    p1_element_stiffness(mesh.nodes, mesh.triangles,
+                                                         self.conductivity))
+        if np.any(source != 0):
+            p = mesh.nodes[mesh.triangles]
+            area = 0.5 * np.abs((p[:, 1, 0] - p[:, 0, 0]) * (p[:, 2, 1] - p[:, 0, 1])
+                                - (p[:, 2, 0] - p[:, 0, 0]) * (p[:, 1, 1] - p[:, 0, 1]))
+            # ∫ q φ_i dA = q A / 3 on a linear triangle
+            self.source_vector = np.bincount(mesh.triangles.ravel(),
+                                             np.repeat(source * area / 3.0, 3), minlength=n)
+        else:
+            self.source_vector = np.zeros(n)
+        edges = mesh.boundary_edges
+        length = np.linalg.norm(mesh.nodes[edges[:, 1]] - mesh.nodes[edges[:, 0]], axis=1)
+        self._edge_length = length
+        self.surface_mass, self.surface_load, self.surface_dofs = [], [], []
+        for j in range(self.n_surfaces):
+            mask = mesh.boundary_surface == j
+            e, L = edges[mask], length[mask]
+            local = (L / 6.0)[:, None, None] * np.array([[2.0, 1.0], [1.0, 2.0]])
+            rows = np.repeat(e, 2, axis=1).ravel()
+            cols = np.tile(e, (1, 2)).ravel()
+            self.surface_mass.append(sp.csr_matrix((local.ravel(), (rows, cols)), shape=(n, n)))
+            self.surface_load.append(np.bincount(e.ravel(), np.repeat(L / 2.0, 2), minlength=n))
+            self.surface_dofs.append(np.unique(e))
+
+    def _assemble_skfem(self, source):
+        mesh = self.mesh
         skmesh = mesh.skfem
-        self.basis = Basis(skmesh, ELEMENTS[element]())
-        nqp = self.basis.X.shape[1]
-        conductivity = np.asarray(conductivity, dtype=float)
+        basis = self.basis
+        self._n = basis.N
+        nqp = basis.X.shape[1]
         self.stiffness = conduction.assemble(
-            self.basis, conductivity=np.repeat(conductivity[:, None], nqp, axis=1)).tocsr()
-        source = np.zeros(len(conductivity)) if source is None else np.asarray(source, float)
+            basis, conductivity=np.repeat(self.conductivity[:, None], nqp, axis=1)).tocsr()
         if np.any(source != 0):
             self.source_vector = source_load.assemble(
-                self.basis, source=np.repeat(source[:, None], nqp, axis=1))
+                basis, source=np.repeat(source[:, None], nqp, axis=1))
         else:
-            self.source_vector = np.zeros(self.basis.N)
-        self.generated = float(self.source_vector.sum())
-
+            self.source_vector = np.zeros(basis.N)
         facet_index = self._facet_indices(skmesh)
-        self.edge_midpoint_dofs = None
-        if element == "P2":
-            self.edge_midpoint_dofs = self.basis.facet_dofs[0, facet_index]
-        self.surface_mass = []
-        self.surface_load = []
-        self.surface_dofs = []
-        for j in range(n_surfaces):
+        self.edge_midpoint_dofs = basis.facet_dofs[0, facet_index]
+        self.surface_mass, self.surface_load, self.surface_dofs = [], [], []
+        for j in range(self.n_surfaces):
             facets = facet_index[mesh.boundary_surface == j]
             if len(facets) == 0:
-                self.surface_mass.append(sp.csr_matrix((self.basis.N, self.basis.N)))
-                self.surface_load.append(np.zeros(self.basis.N))
+                self.surface_mass.append(sp.csr_matrix((basis.N, basis.N)))
+                self.surface_load.append(np.zeros(basis.N))
                 self.surface_dofs.append(np.zeros(0, dtype=np.int64))
                 continue
-            fb = FacetBasis(skmesh, self.basis.elem, facets=facets)
+            fb = FacetBasis(skmesh, basis.elem, facets=facets)
             self.surface_mass.append(surface_mass.assemble(fb).tocsr())
             self.surface_load.append(surface_load.assemble(fb))
-            self.surface_dofs.append(np.unique(self.basis.get_dofs(facets=facets).flatten()))
-        self._point_cache: dict[bytes, sp.csr_matrix] = {}
+            self.surface_dofs.append(np.unique(basis.get_dofs(facets=facets).flatten()))
 
     def _facet_indices(self, skmesh) -> np.ndarray:
         """skfem facet index of every outline edge of the mesh."""
@@ -227,16 +357,22 @@ class ConductionProblem:
             raise RuntimeError("outline edge not found among mesh facets")
         return found
 
-    def solve(self, conditions) -> TemperatureField:
-        """Temperatures and surface heat flows for one set of conditions.
+    def system(self, conditions):
+        """The matrix, right-hand side and held values of one case.
 
-        Parameters
-        ----------
-        conditions : sequence of Condition or None
-            One per surface index; ``None`` leaves that surface adiabatic.
+        Returns
+        -------
+        matrix : csr_matrix
+            Conduction plus surface-exchange terms [W/(m·K)].
+        rhs : ndarray
+            Loads [W/m].
+        held_surface : ndarray of int
+            Surface index holding each degree of freedom, -1 where free.
+        held : ndarray
+            Held temperature per degree of freedom [°C] (NaN where free).
         """
-        n = self.basis.N
-        matrix = self.stiffness.copy()
+        n = self._n
+        exchange = None
         rhs = self.source_vector.copy()
         held = np.full(n, np.nan)
         held_surface = np.full(n, -1, dtype=np.int64)
@@ -245,20 +381,40 @@ class ConductionProblem:
                 continue
             if cond.resistance > 0:
                 h = 1.0 / cond.resistance
-                matrix = matrix + h * self.surface_mass[j]
-                rhs = rhs + (h * cond.temperature) * self.surface_load[j]
+                term = h * self.surface_mass[j]
+                exchange = term if exchange is None else exchange + term
+                rhs += (h * cond.temperature) * self.surface_load[j]
             else:
                 dofs = self.surface_dofs[j]
                 free_here = held_surface[dofs] < 0
                 held[dofs[free_here]] = cond.temperature
                 held_surface[dofs[free_here]] = j
+        matrix = self.stiffness if exchange is None else (self.stiffness + exchange).tocsr()
+        return matrix, rhs, held_surface, held
+
+    def solve(self, conditions) -> TemperatureField:
+        """Temperatures and surface heat flows for one set of conditions.
+
+        Parameters
+        ----------
+        conditions : sequence of Condition or None
+            One per surface index; ``None`` leaves that surface adiabatic.
+        """
+        matrix, rhs, held_surface, held = self.system(conditions)
         is_held = held_surface >= 0
         theta = np.where(is_held, held, 0.0)
         free = ~is_held
         if free.any():
-            a_ff = matrix[free][:, free].tocsc()
-            b_f = rhs[free] - matrix[free][:, is_held] @ theta[is_held]
-            theta[free] = spla.spsolve(a_ff, b_f)
+            if is_held.any():
+                free_index = np.flatnonzero(free)
+                a_ff = matrix[free_index][:, free_index]
+                b_f = rhs[free_index] - matrix[free_index][:, is_held] @ theta[is_held]
+            else:
+                a_ff, b_f = matrix, rhs
+            if _disconnected_from_surfaces(a_ff):
+                raise ModelError("the conduction system is singular: some part of the solid "
+                                 "touches no surface with a finite resistance")
+            theta[free] = self.linear_solver.solve(a_ff, b_f)
         if not np.all(np.isfinite(theta)):
             raise ModelError("the conduction system is singular: some part of the solid "
                              "touches no surface with a finite resistance")
@@ -315,6 +471,19 @@ class ConductionProblem:
         """Matrix that maps the degrees of freedom to values at ``points``."""
         pts = np.ascontiguousarray(np.asarray(points, dtype=float).reshape(-1, 2))
         key = pts.tobytes()
+        if key not in self._point_cache and self.element == "P1":
+            cells = self.locate(pts)
+            tri = self.mesh.triangles[cells]
+            p = self.mesh.nodes[tri]
+            e1, e2 = p[:, 1] - p[:, 0], p[:, 2] - p[:, 0]
+            r = pts - p[:, 0]
+            det = e1[:, 0] * e2[:, 1] - e1[:, 1] * e2[:, 0]
+            l1 = np.clip((r[:, 0] * e2[:, 1] - r[:, 1] * e2[:, 0]) / det, 0.0, 1.0)
+            l2 = np.clip((e1[:, 0] * r[:, 1] - e1[:, 1] * r[:, 0]) / det, 0.0, 1.0)
+            weights = np.stack([1.0 - l1 - l2, l1, l2], axis=1)
+            rows = np.repeat(np.arange(len(pts)), 3)
+            self._point_cache[key] = sp.csr_matrix(
+                (weights.ravel(), (rows, tri.ravel())), shape=(len(pts), self._n))
         if key not in self._point_cache:
             cells = self.locate(pts)
             x = pts.T
