@@ -39,6 +39,11 @@ def _parser() -> argparse.ArgumentParser:
                      help="finite element: linear P1 (default) or quadratic P2")
     run.add_argument("--refine", type=float, default=1.0, metavar="FACTOR",
                      help="divide all target element sizes by FACTOR (default 1)")
+    run.add_argument("--tolerance", type=float, default=None, metavar="REL",
+                     help="target estimated relative error of Ψ and L2D of the "
+                          "mesh-convergence study (default 0.001, i.e. 0.1 %%)")
+    run.add_argument("--max-nodes", dest="max_nodes", type=int, default=None, metavar="N",
+                     help="node budget of the mesh-convergence study (default 250000)")
     _report_options(run)
 
     sub.add_parser("check", help="run the built-in validation cases against their "
@@ -126,6 +131,8 @@ def summary(result, out_dir: Path) -> str:
     lines.append(f"  fRsi               {st.f_rsi:12.3f}")
     for name, value in st.probes.items():
         lines.append(f"  probe {name:<13}{value:12.2f} °C (surface-temperature case)")
+    if getattr(result, "convergence", None) is not None:
+        lines.extend("  " + line for line in result.convergence.summary_lines())
     lines.append(f"  written to {out_dir}")
     lines.append("  Results support, and do not replace, a qualified practitioner's judgement;")
     lines.append("  inputs and criteria must follow the codes in force where the building stands.")
@@ -140,7 +147,12 @@ def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None,
     f_rsi_min = getattr(args, "f_rsi_min", None)
     isotherm_step = getattr(args, "isotherm_step", None)
     check_options(f_rsi_min, isotherm_step)          # bad options: exit 2 before any work
-    result = run(model, MeshOptions(refinement=refine), element)
+    from .convergence import DEFAULT_MAX_NODES, DEFAULT_TOLERANCE
+    tolerance = getattr(args, "tolerance", None)
+    max_nodes = getattr(args, "max_nodes", None)
+    result = run(model, MeshOptions(refinement=refine), element,
+                 tolerance=DEFAULT_TOLERANCE if tolerance is None else tolerance,
+                 max_nodes=DEFAULT_MAX_NODES if max_nodes is None else max_nodes)
     write_outputs(result, out_dir, f_rsi_min=f_rsi_min, isotherm_step=isotherm_step,
                   dimension_system=dimension_system)
     print(summary(result, out_dir))
@@ -151,6 +163,12 @@ def command_run(args) -> int:
     from .outputs import fresh_folder
     if not args.refine > 0:
         raise BridgecalcError(f"--refine must be a positive number, got {args.refine:g}")
+    if args.tolerance is not None and not (args.tolerance > 0 and args.tolerance < 1):
+        raise BridgecalcError(f"--tolerance must be a positive number below 1 (a relative "
+                              f"error, e.g. 0.001 for 0.1 %), got {args.tolerance:g}")
+    if args.max_nodes is not None and args.max_nodes < 100:
+        raise BridgecalcError(f"--max-nodes must be a whole number of at least 100, "
+                              f"got {args.max_nodes}")
     model = _load(args.model, args.assignments)
     out_dir = Path(args.out) if args.out else fresh_folder(Path.cwd() / Path(args.model).stem)
     _run_and_write(model, out_dir, args.element, args.refine, args,

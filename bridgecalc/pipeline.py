@@ -22,6 +22,8 @@ from .model import Model
 from .results import (HeatFlowCase, SurfaceTemperatureCase, design_temperatures,
                       heat_flow_case, surface_temperature_case)
 from .solve import Condition, ConductionProblem
+from . import convergence as convergence_study
+from .convergence import DEFAULT_MAX_NODES, DEFAULT_TOLERANCE
 
 RESULTS_FORMAT = 1
 
@@ -61,6 +63,7 @@ class Result:
     element: str
     heat_flow_case: HeatFlowCase
     surface_temperature_case: SurfaceTemperatureCase
+    convergence: object = None
 
     @property
     def psi(self):
@@ -110,6 +113,8 @@ class Result:
                 "f_rsi": st.f_rsi,
                 "probes": dict(st.probes),
             },
+            **({"convergence": self.convergence.to_dict()} if self.convergence is not None
+               else {}),
         }
 
 
@@ -128,19 +133,8 @@ def material_arrays(model: Model, mesh: Mesh):
     return conductivity[mesh.region], source[mesh.region]
 
 
-def run(model: Model, mesh_options: MeshOptions | None = None, element: str = "P1") -> Result:
-    """Mesh and solve a model; return both calculation cases.
-
-    Parameters
-    ----------
-    model : Model
-    mesh_options : MeshOptions, optional
-    element : str
-        ``"P1"`` (default) or ``"P2"``.
-    """
-    model_io.validate(model)
-    design_temperatures(model)                 # fail before meshing
-    mesh = build_mesh(model, mesh_options)
+def _solve_mesh(model: Model, mesh: Mesh, element: str):
+    """Both calculation cases on one mesh, sharing its assembled operators."""
     conductivity, source = material_arrays(model, mesh)
     problem = ConductionProblem(mesh, conductivity, len(model.surfaces), source, element)
     heat_conditions = _conditions(model, False)
@@ -148,5 +142,49 @@ def run(model: Model, mesh_options: MeshOptions | None = None, element: str = "P
     surface_conditions = _conditions(model, True)
     surface_field = (heat_field if surface_conditions == heat_conditions
                      else problem.solve(surface_conditions))
-    return Result(model, mesh, element, heat_flow_case(model, heat_field),
-                  surface_temperature_case(model, surface_field))
+    return (heat_flow_case(model, heat_field), surface_temperature_case(model, surface_field),
+            problem, heat_field, heat_conditions)
+
+
+def run(model: Model, mesh_options: MeshOptions | None = None, element: str = "P1", *,
+        tolerance: float = DEFAULT_TOLERANCE, max_nodes: int = DEFAULT_MAX_NODES,
+        refinement: str | None = "adaptive") -> Result:
+    """Mesh and solve a model until the answer no longer depends on the mesh.
+
+    Parameters
+    ----------
+    model : Model
+    mesh_options : MeshOptions, optional
+        Options of the first mesh of the study.
+    element : str
+        ``"P1"`` (default) or ``"P2"``.
+    tolerance : float
+        Target estimated relative error of Ψ and L2D [-] (default 1e-3).
+    max_nodes : int
+        Node budget of the convergence study [-].
+    refinement : str or None
+        ``"adaptive"`` (default; P2 studies refine uniformly), ``"uniform"``,
+        or None for one mesh without a study (``convergence`` is then None).
+
+    Returns
+    -------
+    Result
+        Fields and heat flows of the finest mesh; ``heat_flow_case.psi`` and
+        ``coupling_coefficient`` are the study's best (extrapolated)
+        estimates (see :mod:`bridgecalc.convergence`).
+    """
+    model_io.validate(model)
+    design_temperatures(model)                 # fail before meshing
+    if refinement is None:
+        mesh = build_mesh(model, mesh_options)
+        heat, surface, *_ = _solve_mesh(model, mesh, element)
+        return Result(model, mesh, element, heat, surface)
+    heat, surface, mesh, study = convergence_study.converge(
+        model, mesh_options, element, tolerance, max_nodes, refinement,
+        lambda m: _solve_mesh(model, m, element))
+    # best estimates; Ψ = L2D − Σ U·l still holds exactly. The heat flows and
+    # temperatures stay those of the finest mesh (they balance to round-off).
+    heat.coupling_coefficient = study.coupling_coefficient.value
+    if heat.psi is not None and study.psi is not None:
+        heat.psi = study.psi.value
+    return Result(model, mesh, element, heat, surface, study)
