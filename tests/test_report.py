@@ -211,7 +211,7 @@ def test_cli_rejects_a_bad_criterion_with_exit_2(geometries, tmp_path, capsys):
 
 
 def test_a_failure_while_writing_leaves_nothing(demo, tmp_path, monkeypatch):
-    def broken(*_):
+    def broken(*_, **__):
         raise RuntimeError("disk full")
     # results.json is already in the staging folder when drawing fails
     monkeypatch.setattr(outputs, "draw_figures", broken)
