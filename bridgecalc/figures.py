@@ -456,8 +456,9 @@ def mesh_figure(result):
                                  facecolor=mcolors.to_rgba(style[region.material]["fill"], 0.4),
                                  edgecolor="none"))
         every = material_edges(mesh, np.arange(mesh.triangle_count))
-        ax.add_artist(segments_path(xy[every], edgecolor=INK, linewidth=0.15, alpha=0.85,
-                                   gid="mesh-edges"))
+        fine = mesh.triangle_count > 8000          # thinner lines where the mesh is dense
+        ax.add_artist(segments_path(xy[every], edgecolor=INK, linewidth=0.07 if fine else 0.15,
+                                    alpha=0.85, gid="mesh-edges"))
         handles = []
         for kind, seg in _outline_segments(result).items():
             if len(seg):
@@ -505,12 +506,17 @@ def temperature_figure(result, isotherm_step=None):
             f"isotherms every {step:g} K")
         vmin = min(theta_i, theta_e, lo)
         vmax = max(theta_i, theta_e, hi)
-        # Gouraud shading interpolates linearly in each triangle: for P1 it is
-        # the computed field itself, not a smoothed picture of it.
-        filled = ax.tripcolor(triangulation, theta, shading="gouraud", cmap=TEMPERATURE_CMAP,
-                              vmin=vmin, vmax=vmax, rasterized=True)
+        # Linear interpolation in each triangle: for P1 it is the computed
+        # field itself, sampled at the image's pixels.
+        gx, gy, px, py, cells = _pixel_grid(fig, ax, result, triangulation)
+        values = np.full(px.shape, np.nan)
+        inside = cells >= 0
+        values[inside] = _linear_in_cells(xy, mesh.triangles, theta, cells[inside],
+                                          px[inside], py[inside])
+        filled = _field_image(ax, gx, gy, values, cmap=TEMPERATURE_CMAP,
+                              norm=mcolors.Normalize(vmin=vmin, vmax=vmax),
+                              interpolation="bilinear")
         filled.set_gid("temperature-fill")
-        filled._bridgecalc_native_pdf = True     # PDF has Gouraud shadings of its own
         first = math.ceil(lo / step - 1e-9) * step
         lines = np.arange(first, hi + 1e-9 * step, step)
         lines = lines[(lines > lo) & (lines < hi)]
@@ -527,6 +533,100 @@ def temperature_figure(result, isotherm_step=None):
         _colour_bar(fig, ax, filled, aspect, "temperature θ [°C]",
                     ticks=_bar_ticks(vmin, vmax, step))
     return fig
+
+
+#: Pixels per inch of plot for the sampled field images (shown at 300 dpi in PNG).
+FIELD_PPI = 200
+
+
+def cells_on_grid(xy, triangles, gx, gy) -> np.ndarray:
+    """Triangle under each point of a regular grid, -1 where there is none.
+
+    Each triangle visits only the grid points inside its bounding box, so the
+    cost follows the number of points plus triangles (a tree-based finder
+    would first spend seconds building itself on a fine mesh).
+
+    Parameters
+    ----------
+    xy : ndarray, shape (N, 2)
+        Node positions [length_unit].
+    triangles : ndarray of int, shape (T, 3)
+    gx, gy : ndarray
+        Evenly spaced grid coordinates [length_unit], increasing.
+
+    Returns
+    -------
+    ndarray of int, shape (len(gy), len(gx))
+    """
+    gx, gy = np.asarray(gx, float), np.asarray(gy, float)
+    nx, ny = len(gx), len(gy)
+    cells = np.full((ny, nx), -1, dtype=np.int64)
+    dx = gx[1] - gx[0] if nx > 1 else 1.0
+    dy = gy[1] - gy[0] if ny > 1 else 1.0
+    p = xy[triangles]                                            # (T, 3, 2)
+    slack = 1e-9 * float(np.ptp(xy, axis=0).max())
+    ix0 = np.clip(np.ceil((p[:, :, 0].min(1) - slack - gx[0]) / dx), 0, nx).astype(np.int64)
+    ix1 = np.clip(np.floor((p[:, :, 0].max(1) + slack - gx[0]) / dx), -1, nx - 1).astype(np.int64)
+    iy0 = np.clip(np.ceil((p[:, :, 1].min(1) - slack - gy[0]) / dy), 0, ny).astype(np.int64)
+    iy1 = np.clip(np.floor((p[:, :, 1].max(1) + slack - gy[0]) / dy), -1, ny - 1).astype(np.int64)
+    cx = np.maximum(ix1 - ix0 + 1, 0)
+    cy = np.maximum(iy1 - iy0 + 1, 0)
+    count = cx * cy
+    if count.sum() == 0:
+        return cells
+    tri = np.repeat(np.arange(len(triangles)), count)
+    offset = np.arange(count.sum()) - np.repeat(np.cumsum(count) - count, count)
+    i = ix0[tri] + offset % cx[tri]
+    j = iy0[tri] + offset // cx[tri]
+    x, y = gx[i], gy[j]
+    a, b, c = p[tri, 0], p[tri, 1], p[tri, 2]
+    det = (b[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0])
+    l1 = ((x - a[:, 0]) * (c[:, 1] - a[:, 1]) - (y - a[:, 1]) * (c[:, 0] - a[:, 0])) / det
+    l2 = ((b[:, 0] - a[:, 0]) * (y - a[:, 1]) - (b[:, 1] - a[:, 1]) * (x - a[:, 0])) / det
+    tol = 1e-9
+    inside = (l1 >= -tol) & (l2 >= -tol) & (l1 + l2 <= 1 + tol)
+    cells[j[inside], i[inside]] = tri[inside]
+    return cells
+
+
+def _linear_in_cells(xy, triangles, nodal, cells, x, y) -> np.ndarray:
+    """Nodal values interpolated linearly inside the given triangles at (x, y)."""
+    p = xy[triangles[cells]]
+    a, b, c = p[:, 0], p[:, 1], p[:, 2]
+    det = (b[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0])
+    l1 = ((x - a[:, 0]) * (c[:, 1] - a[:, 1]) - (y - a[:, 1]) * (c[:, 0] - a[:, 0])) / det
+    l2 = ((b[:, 0] - a[:, 0]) * (y - a[:, 1]) - (b[:, 1] - a[:, 1]) * (x - a[:, 0])) / det
+    v = nodal[triangles[cells]]
+    return v[:, 0] * (1 - l1 - l2) + v[:, 1] * l1 + v[:, 2] * l2
+
+
+def _pixel_grid(fig, ax, result, triangulation):
+    """Pixel centres over the plot [length_unit] and the triangle under each (-1: none)."""
+    lo, hi = _padded_extent(result)
+    box = ax.get_position()
+    width_in = box.width * fig.get_figwidth()
+    nx = max(int(width_in * FIELD_PPI), 50)
+    ny = max(int(nx * (hi[1] - lo[1]) / (hi[0] - lo[0])), 20)
+    gx = lo[0] + (np.arange(nx) + 0.5) * (hi[0] - lo[0]) / nx
+    gy = lo[1] + (np.arange(ny) + 0.5) * (hi[1] - lo[1]) / ny
+    px, py = np.meshgrid(gx, gy)
+    cells = cells_on_grid(np.column_stack([triangulation.x, triangulation.y]),
+                          triangulation.triangles, gx, gy)
+    return gx, gy, px, py, cells
+
+
+def _field_image(ax, gx, gy, values, **style):
+    """A sampled field as one image over the plot; NaN (outside the solid) is transparent."""
+    lo, hi = _padded_extent_from_grid(gx, gy)
+    image = ax.imshow(np.ma.masked_invalid(values), origin="lower", extent=(lo[0], hi[0],
+                      lo[1], hi[1]), aspect="equal", zorder=1, **style)
+    image.cmap.set_bad(alpha=0.0)
+    return image
+
+
+def _padded_extent_from_grid(gx, gy):
+    dx, dy = gx[1] - gx[0] if len(gx) > 1 else 1.0, gy[1] - gy[0] if len(gy) > 1 else 1.0
+    return (gx[0] - dx / 2, gy[0] - dy / 2), (gx[-1] + dx / 2, gy[-1] + dy / 2)
 
 
 def default_isotherm_step(model) -> float:
@@ -551,17 +651,16 @@ def _mark_minimum(ax, result):
             gid="theta-si-min-marker", clip_on=False)
     ax.plot([x], [y], marker="+", ms=9, color=INK, mew=1.0, zorder=6, clip_on=False)
     xy = mesh.nodes / model.metres_per_unit
-    finder = mtri.Triangulation(xy[:, 0], xy[:, 1], mesh.triangles).get_trifinder()
     lo, hi = _padded_extent(result)
     reach = 0.12 * float((hi - lo).max())
     best = None
     for dx, dy in ((1, 1), (-1, 1), (1, -1), (-1, -1)):
         # sample the box the label would take, in data units
-        gx = x + dx * reach * np.linspace(0.3, 2.2, 6)
-        gy = y + dy * reach * np.linspace(0.3, 0.9, 3)
+        gx = np.sort(x + dx * reach * np.linspace(0.3, 2.2, 6))
+        gy = np.sort(y + dy * reach * np.linspace(0.3, 0.9, 3))
         px, py = np.meshgrid(gx, gy)
         inside_axes = ((px > lo[0]) & (px < hi[0]) & (py > lo[1]) & (py < hi[1])).mean()
-        covered = (finder(px.ravel(), py.ravel()) >= 0).mean()
+        covered = (cells_on_grid(xy, mesh.triangles, gx, gy) >= 0).mean()
         score = (covered - 2.0 * inside_axes, -dy, -dx)
         if best is None or score < best[0]:
             best = (score, dx, dy)
@@ -619,9 +718,12 @@ def heat_flux_figure(result):
         fig, ax, aspect = _new_figure(
             result, model.name or "junction",
             "Heat-flux density |q| = |−λ∇θ|, heat-flow case; arrows show direction only")
-        shade = ax.tripcolor(triangulation, facecolors=np.clip(magnitude, floor, top),
-                             cmap=HEAT_FLUX_CMAP, edgecolors="none",
-                             norm=mcolors.LogNorm(vmin=floor, vmax=top), rasterized=True)
+        # |q| is constant in each triangle: each pixel shows its triangle's value
+        gx, gy, px, py, cells = _pixel_grid(fig, ax, result, triangulation)
+        values = np.full(px.shape, np.nan)
+        values[cells >= 0] = np.clip(magnitude[cells[cells >= 0]], floor, top)
+        shade = _field_image(ax, gx, gy, values, cmap=HEAT_FLUX_CMAP,
+                             norm=mcolors.LogNorm(vmin=floor, vmax=top), interpolation="nearest")
         shade.set_gid("heat-flux-fill")
         names, codes = _material_codes(result)
         ax.add_artist(segments_path(xy[material_edges(mesh, codes)], edgecolor="white",
@@ -646,7 +748,7 @@ def _flow_arrows(ax, triangulation, xy, q, magnitude):
     gy = lo[1] + (np.arange(ny) + 0.5) * span[1] / ny
     px, py = np.meshgrid(gx, gy)
     px, py = px.ravel(), py.ravel()
-    cell = triangulation.get_trifinder()(px, py)
+    cell = cells_on_grid(xy, triangulation.triangles, gx, gy).ravel()
     inside = cell >= 0
     cell = cell[inside]
     strong = magnitude[cell] > 1e-9 * max(float(magnitude.max()), 1e-300)

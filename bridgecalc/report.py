@@ -380,6 +380,12 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
                             "Mesh refinement study.", (0, 1, 2, 3, 4, 5, 6)))
         change = convergence.get("iso_doubling_change")
         lines = []
+        if convergence.get("method"):
+            lines.append(f"Refinement: {convergence['method']}"
+                         + (f", tolerance {_g(convergence['tolerance'])}"
+                            if convergence.get("tolerance") is not None else "")
+                         + (f", observed order {convergence['observed_order']:.2f}"
+                            if convergence.get("observed_order") is not None else "") + ".")
         if convergence.get("psi_extrapolated") is not None:
             lines.append(f"Ψ extrapolated to a zero mesh size: "
                          f"{_n(convergence['psi_extrapolated'])} W/(m·K)"
@@ -390,8 +396,11 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
             lines.append(f"Change of the heat flow on doubling the subdivisions: "
                          f"{100 * change:.3g} % (ISO 10211 asks for less than 1 %).")
         blocks.append(Para(" ".join(lines), "normal"))
+        if convergence.get("stop_reason"):
+            blocks.append(Para(f"Stopped because: {convergence['stop_reason']}.", "normal"))
         if convergence.get("criterion_met"):
-            blocks.append(Para("The mesh criterion of ISO 10211 is met.", "pass"))
+            blocks.append(Para("The mesh criterion of ISO 10211 is met: the result converged.",
+                               "pass"))
         else:
             blocks.append(Para("The result did not converge: the mesh criterion of ISO 10211 "
                                "is not met, so the values above may still change with a finer "
