@@ -71,6 +71,8 @@ DEFAULT_MAX_NODES = 250_000
 ISO_DOUBLING_LIMIT = 0.01
 #: Roache's safety factor for three-grid estimates [-].
 SAFETY_FACTOR = 1.25
+#: Roache's factor when the observed order is not confirmed (from memory) [-].
+UNCONFIRMED_FACTOR = 3.0
 #: Factor on the largest recent change when no order can be fitted [-].
 OSCILLATION_FACTOR = 3.0
 #: Ψ tolerance floor, as a share of L2D [-].
@@ -151,7 +153,8 @@ def extrapolate(nodes, values, max_rate: float = ORDER_RANGE[1]) -> Extrapolatio
     A fitted rate above ``max_rate`` (the element's asymptotic rate, e.g. 1
     for the P1 energy and L2D) marks a pre-asymptotic sequence; the
     extrapolation then uses ``max_rate``, which gives the larger, safer
-    correction and error estimate.
+    correction, and the error estimate takes Roache's factor 3 for an
+    unconfirmed order instead of 1.25.
 
     Parameters
     ----------
@@ -194,10 +197,12 @@ def extrapolate(nodes, values, max_rate: float = ORDER_RANGE[1]) -> Extrapolatio
             lo, f_lo = mid, f_mid
     r = 0.5 * (lo + hi)
     order = 2.0 * r
+    # an order above the asymptotic one is not yet confirmed: larger factor
+    factor = SAFETY_FACTOR if r <= max_rate else UNCONFIRMED_FACTOR
     r = min(r, max_rate)
     b, c = n2 ** -r, n3 ** -r
     limit = q3 - d23 * c / (b - c)
-    return Extrapolation(limit, SAFETY_FACTOR * abs(q3 - limit), order, True)
+    return Extrapolation(limit, factor * abs(q3 - limit), order, True)
 
 
 @dataclass

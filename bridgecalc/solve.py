@@ -329,7 +329,8 @@ class ConductionProblem:
         else:
             self.source_vector = np.zeros(basis.N)
         facet_index = self._facet_indices(skmesh)
-        self.edge_midpoint_dofs = basis.facet_dofs[0, facet_index]
+        if self.element == "P2":
+            self.edge_midpoint_dofs = basis.facet_dofs[0, facet_index]
         self.surface_mass, self.surface_load, self.surface_dofs = [], [], []
         for j in range(self.n_surfaces):
             facets = facet_index[mesh.boundary_surface == j]
