@@ -88,12 +88,15 @@ class Mesh:
         Scale of the model's length unit [m per length_unit].
     """
 
-    nodes: np.ndarray
-    triangles: np.ndarray
-    region: np.ndarray
-    boundary_edges: np.ndarray
-    boundary_surface: np.ndarray
+    nodes: np.ndarray = field(repr=False)
+    triangles: np.ndarray = field(repr=False)
+    region: np.ndarray = field(repr=False)
+    boundary_edges: np.ndarray = field(repr=False)
+    boundary_surface: np.ndarray = field(repr=False)
     metres_per_unit: float
+
+    def __repr__(self) -> str:
+        return f"Mesh({self.node_count} nodes, {self.triangle_count} triangles)"
     _skfem: object = field(default=None, repr=False, compare=False)
 
     @property

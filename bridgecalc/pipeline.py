@@ -9,6 +9,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -19,8 +20,9 @@ from . import scripts
 from .errors import ModelError
 from .mesh import Mesh, MeshOptions, build_mesh
 from .model import Model
-from .results import (HeatFlowCase, SurfaceTemperatureCase, design_temperatures,
-                      heat_flow_case, surface_temperature_case)
+from .results import (HeatFlowCase, SurfaceTemperatureCase, coupling_coefficient,
+                      design_temperatures, heat_flow_balance, heat_flow_case,
+                      linear_thermal_transmittance, surface_temperature_case)
 from .solve import Condition, ConductionProblem
 from . import convergence as convergence_study
 from .convergence import DEFAULT_MAX_NODES, DEFAULT_TOLERANCE
@@ -179,12 +181,45 @@ def run(model: Model, mesh_options: MeshOptions | None = None, element: str = "P
         mesh = build_mesh(model, mesh_options)
         heat, surface, *_ = _solve_mesh(model, mesh, element)
         return Result(model, mesh, element, heat, surface)
+    level_flows = []
+
+    def solve_level(mesh):
+        solved = _solve_mesh(model, mesh, element)
+        level_flows.append(dict(solved[0].heat_flow))
+        return solved
+
     heat, surface, mesh, study = convergence_study.converge(
-        model, mesh_options, element, tolerance, max_nodes, refinement,
-        lambda m: _solve_mesh(model, m, element))
-    # best estimates; Ψ = L2D − Σ U·l still holds exactly. The heat flows and
-    # temperatures stay those of the finest mesh (they balance to round-off).
-    heat.coupling_coefficient = study.coupling_coefficient.value
-    if heat.psi is not None and study.psi is not None:
-        heat.psi = study.psi.value
+        model, mesh_options, element, tolerance, max_nodes, refinement, solve_level)
+    _use_best_estimates(model, heat, study, level_flows)
     return Result(model, mesh, element, heat, surface, study)
+
+
+def _use_best_estimates(model: Model, heat: HeatFlowCase, study, level_flows) -> None:
+    """Report the study's extrapolated values, consistently.
+
+    Richardson extrapolation over the last levels is Q∞ = Q₃ + w·(Q₃ − Q₂)
+    with one weight w fitted on L2D. Applying that same w to every
+    environment's heat flow keeps L2D = Φi/(θi − θe) and Ψ = L2D − Σ U·l exact,
+    and, being linear, keeps the flows balanced; probes and surface
+    temperatures stay those of the finest mesh.
+    """
+    l2d = [lv.coupling_coefficient for lv in study.levels]
+    weight = 0.0
+    if len(l2d) >= 2 and l2d[-1] != l2d[-2]:
+        weight = (study.coupling_coefficient.value - l2d[-1]) / (l2d[-1] - l2d[-2])
+    if weight and len(level_flows) >= 2:
+        last, before = level_flows[-1], level_flows[-2]
+        heat.heat_flow = {name: last[name] + weight * (last[name] - before[name])
+                          for name in last}
+    heat.balance = heat_flow_balance(heat.heat_flow, heat.field.generated)
+    theta_i, theta_e = design_temperatures(model)
+    interior = sum(heat.heat_flow[e.name] for e in model.environments if e.kind == "interior")
+    heat.coupling_coefficient = coupling_coefficient(interior, theta_i, theta_e)
+    if heat.psi is not None:
+        heat.psi = linear_thermal_transmittance(heat.coupling_coefficient,
+                                                [f.ul for f in heat.flanking])
+    # the study records the very numbers reported (they differ by round-off only)
+    study.coupling_coefficient = dataclasses.replace(study.coupling_coefficient,
+                                                     value=heat.coupling_coefficient)
+    if study.psi is not None and heat.psi is not None:
+        study.psi = dataclasses.replace(study.psi, value=heat.psi)

@@ -154,6 +154,21 @@ class SurfaceTemperatureCase:
     field: object = field(repr=False, default=None)
 
 
+def heat_flow_balance(heat_flow: dict, generated: float = 0.0) -> float:
+    """|Σ heat flow + generated| / max |heat flow| [-]: zero for a conserved field.
+
+    Parameters
+    ----------
+    heat_flow : dict of str to float
+        Heat flow into the model per environment [W/m].
+    generated : float
+        Heat generated inside the section [W/m].
+    """
+    values = np.array(list(heat_flow.values()), dtype=float)
+    scale = max(np.abs(values).max(initial=0.0), abs(generated))
+    return float(abs(values.sum() + generated) / scale) if scale > 0 else 0.0
+
+
 def heat_flow_by_environment(model: Model, temperature_field) -> dict[str, float]:
     """Sum the per-surface heat flows of a field by environment [W/m]."""
     flows = {e.name: 0.0 for e in model.environments}
@@ -175,10 +190,7 @@ def heat_flow_case(model: Model, temperature_field) -> HeatFlowCase:
     """Heat flows, balance, L2D and Ψ from the heat-flow case's field."""
     theta_i, theta_e = design_temperatures(model)
     flows = heat_flow_by_environment(model, temperature_field)
-    values = np.array(list(flows.values()))
-    scale_flow = max(np.abs(values).max(), abs(temperature_field.generated))
-    balance = (abs(values.sum() + temperature_field.generated) / scale_flow
-               if scale_flow > 0 else 0.0)
+    balance = heat_flow_balance(flows, temperature_field.generated)
     interior = sum(flows[e.name] for e in model.environments if e.kind == "interior")
     l2d = coupling_coefficient(interior, theta_i, theta_e)
     flanking = []
