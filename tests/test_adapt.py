@@ -11,6 +11,7 @@ L2D; a textbook property, e.g. Braess, *Finite Elements*, ch. II).
 import numpy as np
 import pytest
 
+
 from bridgecalc import adapt, validation
 from bridgecalc.mesh import build_mesh
 from bridgecalc.pipeline import _conditions, _solve_mesh, load, run
@@ -116,14 +117,18 @@ def test_marking_takes_the_bulk_and_ties_alike():
 
 
 def test_adaptive_needs_far_fewer_nodes_than_uniform(geometries):
-    """Window jamb (aluminium-like frame next to insulation): both studies
-    reach the default tolerance; the adaptive one with under half the nodes."""
+    """Window jamb (frame next to insulation), from the study's default first
+    mesh: the adaptive study reaches the default tolerance; uniform refinement
+    from the same mesh needs more than twice the nodes, or does not reach it
+    within the node budget at all."""
     model = load(geometries / "window_jamb.py")
     adaptive = run(model)
     uniform = run(model, refinement="uniform")
-    assert adaptive.convergence.criterion_met and uniform.convergence.criterion_met
-    assert adaptive.mesh.node_count < 0.5 * uniform.mesh.node_count
-    # both within their own error estimates of each other
-    gap = abs(adaptive.psi - uniform.psi)
-    assert gap <= (adaptive.convergence.psi_error_estimate
-                   + uniform.convergence.psi_error_estimate)
+    assert adaptive.convergence.criterion_met
+    assert (not uniform.convergence.criterion_met
+            or uniform.mesh.node_count > 2 * adaptive.mesh.node_count)
+    if uniform.convergence.criterion_met:
+        # both within their own error estimates of each other
+        gap = abs(adaptive.psi - uniform.psi)
+        assert gap <= (adaptive.convergence.psi_error_estimate
+                       + uniform.convergence.psi_error_estimate)
