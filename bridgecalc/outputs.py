@@ -18,6 +18,7 @@ drawing fifteen files dominates the time of the outputs.
 
 from __future__ import annotations
 
+import contextlib
 import json
 import math
 import multiprocessing
@@ -156,9 +157,7 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
     from . import exports, pdfreport, report
     from . import stamp as stamps
     out_dir = Path(out_dir)
-    out_dir.parent.mkdir(parents=True, exist_ok=True)
-    staging = Path(tempfile.mkdtemp(prefix=f".{out_dir.name}.", dir=out_dir.parent))
-    try:
+    with staged_folder(out_dir) as staging:
         data = result.to_dict()
         (staging / RESULTS_FILE).write_text(
             json.dumps(data, indent=2, ensure_ascii=False) + "\n", encoding="utf-8")
@@ -183,6 +182,31 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
             stamp or None, dimension_system, files, data)
         (staging / REPORT_FILE).write_text(report.render_html(content), encoding="utf-8")
         pdfreport.write_pdf(content, staging / REPORT_PDF_FILE)
+    return out_dir
+
+
+@contextlib.contextmanager
+def staged_folder(out_dir):
+    """A staging folder whose files land in ``out_dir`` only if the block succeeds.
+
+    The staging folder is made beside ``out_dir`` (same file system, so the
+    move is a rename). On success it becomes ``out_dir``, or, when that exists,
+    its files replace those of the same names there; on any failure it is
+    removed and nothing of the run remains. The folder gets the permissions
+    the user's umask gives a new folder (a temporary folder starts as 0700).
+
+    Parameters
+    ----------
+    out_dir : str or Path
+    """
+    out_dir = Path(out_dir)
+    out_dir.parent.mkdir(parents=True, exist_ok=True)
+    staging = Path(tempfile.mkdtemp(prefix=f".{out_dir.name}.", dir=out_dir.parent))
+    try:
+        yield staging
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(staging, 0o777 & ~umask)
         if not out_dir.exists():
             os.replace(staging, out_dir)
         else:
@@ -192,7 +216,6 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
     except BaseException:
         shutil.rmtree(staging, ignore_errors=True)
         raise
-    return out_dir
 
 
 def fresh_folder(base: Path) -> Path:

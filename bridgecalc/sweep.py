@@ -30,9 +30,7 @@ import io
 import itertools
 import math
 import os
-import shutil
 import sys
-import tempfile
 import textwrap
 import threading
 import time
@@ -41,6 +39,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from . import scripts
+from .outputs import staged_folder
 from .errors import BridgecalcError
 
 CSV_FILE = "sweep.csv"
@@ -649,9 +648,7 @@ def write_sweep(rows: list[VariantResult], out_dir, script, vary: dict | None = 
         vary = {n: list(dict.fromkeys(r.params[n] for r in rows)) for n in names}
         vary = {n: v for n, v in vary.items() if len(v) > 1}
     out_dir = Path(out_dir)
-    out_dir.parent.mkdir(parents=True, exist_ok=True)
-    staging = Path(tempfile.mkdtemp(prefix=f".{out_dir.name}.", dir=out_dir.parent))
-    try:
+    with staged_folder(out_dir) as staging:
         (staging / CSV_FILE).write_text(csv_text(rows), encoding="utf-8")
         fig = sweep_figure(rows, list(vary), f"Parameter sweep: {Path(script).name}")
         try:
@@ -661,15 +658,6 @@ def write_sweep(rows: list[VariantResult], out_dir, script, vary: dict | None = 
         (staging / NOTES_FILE).write_text(
             notes_text(rows, vary, str(script), base_params,
                        getattr(module, "DIMENSION_SYSTEM", None)), encoding="utf-8")
-        if not out_dir.exists():
-            os.replace(staging, out_dir)
-        else:
-            for item in staging.iterdir():
-                os.replace(item, out_dir / item.name)
-            staging.rmdir()
-    except BaseException:
-        shutil.rmtree(staging, ignore_errors=True)
-        raise
     return out_dir
 
 
