@@ -153,6 +153,22 @@ def require(ok: bool, script: str, parameter: str, message: str) -> None:
         raise ModelError(f"{script}: parameter {parameter!r} {message}")
 
 
+def require_positive(script: str, params: dict, names) -> None:
+    """Raise :class:`ModelError` naming the first of ``names`` that is not > 0.
+
+    Parameters
+    ----------
+    script : str
+        Named in the message.
+    params : dict
+        Checked parameters (lengths in [mm]).
+    names : iterable of str
+        Parameters that must be strictly positive.
+    """
+    for name in names:
+        require(params[name] > 0, script, name, f"must be > 0 mm, got {params[name]}")
+
+
 # --------------------------------------------------------------------------- materials
 
 def materials(*names: str, extra: dict[str, tuple[float, str]] | None = None

@@ -815,6 +815,14 @@ def _check_polygon(check: _Checker, vertices, where: str):
                           "or touch itself")
 
 
+def _unique_name(check: _Checker, seen: dict, name, noun: str, table: str, index: int):
+    """Fail when ``name`` was already used in ``table``; else remember it."""
+    if name in seen:
+        check.fail(f"{table}[{index}].name", f"{noun} name {name!r} is already used by "
+                                             f"{table}[{seen[name]}]")
+    seen[name] = index
+
+
 def _check_environments(check: _Checker, model: Model):
     seen = {}
     kinds = set()
@@ -823,10 +831,7 @@ def _check_environments(check: _Checker, model: Model):
         if not isinstance(env, Environment):
             check.fail(where, f"expected an Environment, got {_describe(env)}")
         check.string(env.name, f"{where}.name")
-        if env.name in seen:
-            check.fail(f"{where}.name", f"environment name {env.name!r} is already used by "
-                                        f"environments[{seen[env.name]}]")
-        seen[env.name] = i
+        _unique_name(check, seen, env.name, "environment", "environments", i)
         check.number(env.temperature, f"{where}.temperature")
         check.string(env.kind, f"{where}.kind")
         if env.kind not in ENVIRONMENT_KINDS:
@@ -901,10 +906,7 @@ def _check_probes(check: _Checker, model: Model):
         if not isinstance(probe, Probe):
             check.fail(where, f"expected a Probe, got {_describe(probe)}")
         check.string(probe.name, f"{where}.name")
-        if probe.name in seen:
-            check.fail(f"{where}.name", f"probe name {probe.name!r} is already used by "
-                                        f"probes[{seen[probe.name]}]")
-        seen[probe.name] = i
+        _unique_name(check, seen, probe.name, "probe", "probes", i)
         check.point(probe.at, f"{where}.at")
 
 

@@ -31,8 +31,8 @@ Defaults: the fictional Tarnwick Yard block, see ``docs/scenario.md``.
 
 from bridgecalc.junctions import (EXTERIOR, assemble, check_parameters,
                                   cut_off_distance, flanking_from_stack, materials,
-                                  require, stack_regions, stack_thickness,
-                                  surface_along)
+                                  require, require_positive, stack_regions,
+                                  stack_thickness, surface_along)
 from bridgecalc.model import Region
 
 SCRIPT = "balcony"
@@ -79,9 +79,9 @@ def build(**params):
     t_wall, t_ins = p["wall_thickness_mm"], p["insulation_thickness_mm"]
     t_slab, depth = p["slab_thickness_mm"], p["balcony_depth_mm"]
     t_break = p["break_thickness_mm"]
-    for name in ("wall_thickness_mm", "insulation_thickness_mm", "slab_thickness_mm",
-                 "balcony_depth_mm", "break_thickness_mm"):
-        require(p[name] > 0, SCRIPT, name, f"must be > 0 mm, got {p[name]}")
+    require_positive(SCRIPT, p, ("wall_thickness_mm", "insulation_thickness_mm",
+                                 "slab_thickness_mm", "balcony_depth_mm",
+                                 "break_thickness_mm"))
     require(t_break <= t_ins, SCRIPT, "break_thickness_mm",
             f"({t_break} mm) must not exceed insulation_thickness_mm ({t_ins} mm)")
 

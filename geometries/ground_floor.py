@@ -34,10 +34,10 @@ Defaults: the fictional Tarnwick Yard block, see ``docs/scenario.md``.
 
 import math
 
-from bridgecalc.junctions import (EXTERIOR, MATERIALS_TABLE, assemble,
-                                  check_parameters, cut_off_distance,
-                                  flanking_from_stack, materials, require,
-                                  stack_regions, stack_thickness, surface_along)
+from bridgecalc.junctions import (EXTERIOR, MATERIALS_TABLE, assemble, check_parameters,
+                                  cut_off_distance, flanking_from_stack, materials,
+                                  require, require_positive, stack_regions,
+                                  stack_thickness, surface_along)
 from bridgecalc.layers import RSE, RSI_DOWNWARD
 from bridgecalc.model import Flanking, Region
 
@@ -113,9 +113,8 @@ def build(**params):
     bridgecalc.Model
     """
     p = check_parameters(SCRIPT, PARAMETERS, params)
-    for name in ("wall_thickness_mm", "slab_thickness_mm", "foundation_depth_mm",
-                 "building_width_mm"):
-        require(p[name] > 0, SCRIPT, name, f"must be > 0 mm, got {p[name]}")
+    require_positive(SCRIPT, p, ("wall_thickness_mm", "slab_thickness_mm",
+                                 "foundation_depth_mm", "building_width_mm"))
     t_wall, b = p["wall_thickness_mm"], p["building_width_mm"]
     wall = [("clay_masonry", t_wall), ("eps", p["insulation_thickness_mm"])]
     floor = [("cement_screed", p["screed_thickness_mm"]),

@@ -24,8 +24,8 @@ Defaults: the fictional Tarnwick Yard main block, see ``docs/scenario.md``.
 
 from bridgecalc.junctions import (EXTERIOR, assemble, check_parameters,
                                   cut_off_distance, flanking_from_stack, materials,
-                                  require, stack_regions, stack_thickness,
-                                  surface_along)
+                                  require, require_positive, stack_regions,
+                                  stack_thickness, surface_along)
 from bridgecalc.model import Region
 
 SCRIPT = "parapet"
@@ -68,9 +68,8 @@ def build(**params):
     bridgecalc.Model
     """
     p = check_parameters(SCRIPT, PARAMETERS, params)
-    for name in ("wall_thickness_mm", "slab_thickness_mm", "roof_insulation_mm",
-                 "parapet_height_mm"):
-        require(p[name] > 0, SCRIPT, name, f"must be > 0 mm, got {p[name]}")
+    require_positive(SCRIPT, p, ("wall_thickness_mm", "slab_thickness_mm",
+                                 "roof_insulation_mm", "parapet_height_mm"))
     t_wall, t_slab = p["wall_thickness_mm"], p["slab_thickness_mm"]
     t_upstand = p["upstand_insulation_mm"]
     wall = [("clay_masonry", t_wall), ("eps", p["insulation_thickness_mm"])]

@@ -23,8 +23,8 @@ Defaults: the fictional Tarnwick Yard entrance, see ``docs/scenario.md``.
 
 from bridgecalc.junctions import (EXTERIOR, assemble, check_parameters,
                                   cut_off_distance, flanking_from_stack, materials,
-                                  require, stack_regions, stack_thickness,
-                                  surface_along)
+                                  require, require_positive, stack_regions,
+                                  stack_thickness, surface_along)
 from bridgecalc.model import Region
 
 SCRIPT = "steel_beam"
@@ -72,9 +72,9 @@ def build(**params):
     bridgecalc.Model
     """
     p = check_parameters(SCRIPT, PARAMETERS, params)
-    for name in ("wall_thickness_mm", "insulation_thickness_mm", "section_depth_mm",
-                 "flange_width_mm", "flange_thickness_mm", "web_thickness_mm"):
-        require(p[name] > 0, SCRIPT, name, f"must be > 0 mm, got {p[name]}")
+    require_positive(SCRIPT, p, ("wall_thickness_mm", "insulation_thickness_mm",
+                                 "section_depth_mm", "flange_width_mm",
+                                 "flange_thickness_mm", "web_thickness_mm"))
     t_wall, t_ins = p["wall_thickness_mm"], p["insulation_thickness_mm"]
     depth, width = p["section_depth_mm"], p["flange_width_mm"]
     flange, web = p["flange_thickness_mm"], p["web_thickness_mm"]

@@ -24,7 +24,7 @@ Defaults: the fictional Tarnwick Yard top-floor infill, see ``docs/scenario.md``
 
 from bridgecalc.junctions import (EXTERIOR, assemble, check_parameters,
                                   flanking_from_stack, materials, require,
-                                  stack_regions, surface_along)
+                                  require_positive, stack_regions, surface_along)
 from bridgecalc.model import AirLayer, Region, air_layer_material
 
 SCRIPT = "timber_stud"
@@ -64,8 +64,8 @@ def build(**params):
     bridgecalc.Model
     """
     p = check_parameters(SCRIPT, PARAMETERS, params)
-    for name in ("service_void_mm", "stud_depth_mm", "stud_width_mm", "stud_spacing_mm"):
-        require(p[name] > 0, SCRIPT, name, f"must be > 0 mm, got {p[name]}")
+    require_positive(SCRIPT, p, ("service_void_mm", "stud_depth_mm", "stud_width_mm",
+                                 "stud_spacing_mm"))
     width, spacing = p["stud_width_mm"], p["stud_spacing_mm"]
     require(width < spacing, SCRIPT, "stud_width_mm",
             f"({width} mm) must be less than stud_spacing_mm ({spacing} mm)")

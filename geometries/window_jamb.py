@@ -31,10 +31,10 @@ its ISO 10077-2 calculation.
 Defaults: the fictional Tarnwick Yard block, see ``docs/scenario.md``.
 """
 
-from bridgecalc.junctions import (EXTERIOR, MIN_CUT_OFF_MM, assemble,
-                                  check_parameters, cut_off_distance,
-                                  flanking_from_stack, materials, require,
-                                  stack_regions, stack_thickness, surface_along)
+from bridgecalc.junctions import (EXTERIOR, MIN_CUT_OFF_MM, assemble, check_parameters,
+                                  cut_off_distance, flanking_from_stack, materials,
+                                  require, require_positive, stack_regions,
+                                  stack_thickness, surface_along)
 from bridgecalc.model import Region
 
 SCRIPT = "window_jamb"
@@ -78,9 +78,9 @@ def build(**params):
     bridgecalc.Model
     """
     p = check_parameters(SCRIPT, PARAMETERS, params)
-    for name in ("wall_thickness_mm", "insulation_thickness_mm", "frame_depth_mm",
-                 "frame_width_mm", "glazing_thickness_mm"):
-        require(p[name] > 0, SCRIPT, name, f"must be > 0 mm, got {p[name]}")
+    require_positive(SCRIPT, p, ("wall_thickness_mm", "insulation_thickness_mm",
+                                 "frame_depth_mm", "frame_width_mm",
+                                 "glazing_thickness_mm"))
     t_wall, t_ins = p["wall_thickness_mm"], p["insulation_thickness_mm"]
     d_frame, w_frame = p["frame_depth_mm"], p["frame_width_mm"]
     t_glass, t_rev = p["glazing_thickness_mm"], p["reveal_insulation_mm"]
