@@ -387,10 +387,12 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
                          + (f", observed order {convergence['observed_order']:.2f}"
                             if convergence.get("observed_order") is not None else "") + ".")
         if convergence.get("psi_extrapolated") is not None:
+            error = convergence.get("psi_error_estimate")
+            error = None if error is None else float(f"{error:.2g}")     # two significant digits
             lines.append(f"Ψ extrapolated to a zero mesh size: "
                          f"{_n(convergence['psi_extrapolated'])} W/(m·K)"
-                         + (f" ± {_n(convergence['psi_error_estimate'])} W/(m·K) (estimate)"
-                            if convergence.get("psi_error_estimate") is not None else "") + ".")
+                         + (f" ± {_g(error)} W/(m·K) (estimate)"
+                            if error is not None else "") + ".")
         if change is not None:
             # stored as a fraction of the heat flow
             lines.append(f"Change of the heat flow on doubling the subdivisions: "
