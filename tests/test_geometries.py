@@ -204,6 +204,32 @@ def test_reveal_insulation_lowers_psi():
         result("window_jamb", reveal_insulation_mm=0.0).psi
 
 
+# Directions of change for the remaining families with a clear one (common
+# practice, no single source: insulating the path of the bridge lowers Ψ, a
+# wider conducting member across the insulation raises it; the flanking
+# clear-field U is the same in each pair, so Ψ follows L2D).
+
+@needs_run
+def test_parapet_upstand_insulation_lowers_psi():
+    assert result("parapet", upstand_insulation_mm=120.0).psi < \
+        result("parapet", upstand_insulation_mm=40.0).psi
+
+
+@needs_run
+def test_ground_floor_perimeter_insulation_lowers_psi():
+    none = result("ground_floor", perimeter_insulation_mm=0.0).psi
+    shallow = result("ground_floor", perimeter_insulation_depth_mm=300.0).psi
+    default = result("ground_floor").psi
+    assert default < shallow < none
+
+
+@needs_run
+def test_wider_timber_stud_raises_psi():
+    # timber λ 0.13 against mineral wool 0.035 W/(m·K) (ISO 10456 typical, from memory)
+    assert result("timber_stud", stud_width_mm=90.0).psi > \
+        result("timber_stud", stud_width_mm=45.0).psi
+
+
 @needs_run
 def test_timber_stud_lies_between_iso6946_limits():
     """U of the 2D stud wall between the ISO 6946 upper and lower limits of R.
