@@ -159,11 +159,6 @@ def region_polygons(model: Model):
             tol)
 
 
-def _signed_area(poly: np.ndarray) -> float:
-    x, y = poly[:, 0], poly[:, 1]
-    return 0.5 * float(np.dot(x, np.roll(y, -1)) - np.dot(np.roll(x, -1), y))
-
-
 def _add_surface(occ, poly: np.ndarray) -> int:
     """One plane surface through the polygon's vertices; returns its tag."""
     points = [occ.addPoint(float(x), float(y), 0.0) for x, y in poly]

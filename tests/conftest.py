@@ -2,6 +2,7 @@
 
 from pathlib import Path
 
+import numpy as np
 import pytest
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -16,3 +17,15 @@ def root() -> Path:
 @pytest.fixture(scope="session")
 def geometries() -> Path:
     return GEOMETRIES
+
+
+def triangle_angles(nodes, triangles) -> np.ndarray:
+    """The three interior angles of every triangle [°], shape (T, 3)."""
+    p = nodes[triangles]
+    angles = []
+    for i in range(3):
+        a = p[:, (i + 1) % 3] - p[:, i]
+        b = p[:, (i + 2) % 3] - p[:, i]
+        cos = (a * b).sum(1) / np.linalg.norm(a, axis=1) / np.linalg.norm(b, axis=1)
+        angles.append(np.degrees(np.arccos(np.clip(cos, -1, 1))))
+    return np.array(angles).T

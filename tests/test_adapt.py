@@ -16,6 +16,8 @@ from bridgecalc import adapt, validation
 from bridgecalc.mesh import build_mesh
 from bridgecalc.pipeline import _conditions, _solve_mesh, load, run
 
+from conftest import triangle_angles
+
 
 @pytest.fixture(scope="module")
 def case2():
@@ -66,14 +68,7 @@ def test_angles_stay_bounded(case2):
     model, mesh = case2
 
     def min_angle(m):
-        p = m.nodes[m.triangles]
-        out = []
-        for i in range(3):
-            a = p[:, (i + 1) % 3] - p[:, i]
-            b = p[:, (i + 2) % 3] - p[:, i]
-            c = (a * b).sum(1) / np.linalg.norm(a, axis=1) / np.linalg.norm(b, axis=1)
-            out.append(np.degrees(np.arccos(np.clip(c, -1, 1))))
-        return np.min(out)
+        return triangle_angles(m.nodes, m.triangles).min()
 
     fine = mesh
     conditions = _conditions(model, False)

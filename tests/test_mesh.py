@@ -6,22 +6,13 @@ import pytest
 from bridgecalc import validation
 from bridgecalc.mesh import build_mesh
 
+from conftest import triangle_angles
+
 
 @pytest.fixture(scope="module")
 def case2():
     model = validation.case2_model()
     return model, build_mesh(model)
-
-
-def triangle_angles(nodes, triangles):
-    p = nodes[triangles]
-    angles = []
-    for i in range(3):
-        a = p[:, (i + 1) % 3] - p[:, i]
-        b = p[:, (i + 2) % 3] - p[:, i]
-        cos = (a * b).sum(1) / np.linalg.norm(a, axis=1) / np.linalg.norm(b, axis=1)
-        angles.append(np.degrees(np.arccos(np.clip(cos, -1, 1))))
-    return np.array(angles).T
 
 
 def test_thin_aluminium_web_has_several_elements_across(case2):
