@@ -402,6 +402,19 @@ def _timed_out(timeout) -> BridgecalcError:
                            f"nothing written")
 
 
+def _take_row(future, futures, rows, report, lost: str) -> None:
+    """Append a finished variant's row; a worker that died or was lost
+    (``lost`` says where) becomes that variant's failed row."""
+    i, params = futures[future]
+    try:
+        row = future.result()
+    except Exception as exc:
+        row = VariantResult(i, params, f"failed: {lost}: {type(exc).__name__}: {exc}")
+    rows.append(row)
+    if report:
+        report(row)
+
+
 def _sweep_local(script, combos, workers, progress, timeout, run_options
                  ) -> list[VariantResult]:
     import multiprocessing
@@ -420,15 +433,7 @@ def _sweep_local(script, combos, workers, progress, timeout, run_options
             report = _reporter(progress, len(combos))
             try:
                 for future in as_completed(futures, timeout=timeout):
-                    i, params = futures[future]
-                    try:
-                        row = future.result()
-                    except Exception as exc:        # the worker process died
-                        row = VariantResult(i, params, f"failed: worker process: "
-                                                       f"{type(exc).__name__}: {exc}")
-                    rows.append(row)
-                    if report:
-                        report(row)
+                    _take_row(future, futures, rows, report, "worker process")
             except TimeoutError:
                 pool.shutdown(wait=False, cancel_futures=True)
                 raise _timed_out(timeout) from None
@@ -467,15 +472,7 @@ def _sweep_dask(script, combos, scheduler, progress, timeout, run_options
         try:
             for future in distributed.as_completed(list(futures), loop=client.loop,
                                                    timeout=timeout):
-                i, params = futures[future]
-                try:
-                    row = future.result()
-                except Exception as exc:            # the worker died or was lost
-                    row = VariantResult(i, params, f"failed: cluster: "
-                                                   f"{type(exc).__name__}: {exc}")
-                rows.append(row)
-                if report:
-                    report(row)
+                _take_row(future, futures, rows, report, "cluster")
         except TimeoutError:
             client.cancel(list(futures))
             raise _timed_out(timeout) from None
