@@ -86,17 +86,9 @@ def _report_options(parser) -> None:
                              "(default: about a tenth of θi − θe)")
 
 
-def _dimension_system(path: str):
-    """A geometry script's DIMENSION_SYSTEM, or None (model files have no such key)."""
-    from . import scripts
-    source = Path(path)
-    if source.suffix != ".py":
-        return None
-    value = getattr(scripts.load_module(source), "DIMENSION_SYSTEM", None)
-    return value if isinstance(value, str) else None
-
-
 def _load(path: str, assignments):
+    """The model, and a geometry script's DIMENSION_SYSTEM (None for model files,
+    which have no such key); a script is executed once."""
     from . import scripts
     from .errors import ModelError
     from .pipeline import load
@@ -105,10 +97,13 @@ def _load(path: str, assignments):
         raise ModelError(f"{source}: no such file")
     if source.suffix == ".py":
         module = scripts.load_module(source)
-        return scripts.build(source, scripts.parse_assignments(module, assignments, source))
+        model = scripts.build(source, scripts.parse_assignments(module, assignments, source),
+                              module)
+        system = getattr(module, "DIMENSION_SYSTEM", None)
+        return model, system if isinstance(system, str) else None
     if assignments:
         raise ModelError(f"{source}: --set applies to geometry scripts only, not model files")
-    return load(source)
+    return load(source), None
 
 
 def summary(result, out_dir: Path) -> str:
@@ -169,19 +164,18 @@ def command_run(args) -> int:
     if args.max_nodes is not None and args.max_nodes < 100:
         raise BridgecalcError(f"--max-nodes must be a whole number of at least 100, "
                               f"got {args.max_nodes}")
-    model = _load(args.model, args.assignments)
+    model, dimension_system = _load(args.model, args.assignments)
     out_dir = Path(args.out) if args.out else fresh_folder(Path.cwd() / Path(args.model).stem)
-    _run_and_write(model, out_dir, args.element, args.refine, args,
-                   _dimension_system(args.model))
+    _run_and_write(model, out_dir, args.element, args.refine, args, dimension_system)
     return 0
 
 
 def command_demo(args) -> int:
     from .outputs import REPORT_FILE, fresh_folder
     script = geometries_folder() / DEMO_SCRIPT
-    model = _load(str(script), [])
+    model, dimension_system = _load(str(script), [])
     out_dir = Path(args.out) if args.out else fresh_folder(Path.cwd() / "bridgecalc-demo")
-    _run_and_write(model, out_dir, args=args, dimension_system=_dimension_system(str(script)))
+    _run_and_write(model, out_dir, args=args, dimension_system=dimension_system)
     print(f"report: {out_dir / REPORT_FILE}")
     return 0
 

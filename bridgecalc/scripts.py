@@ -78,9 +78,14 @@ def parse_assignments(module, assignments, origin) -> dict:
     return params
 
 
-def build(path, params=None) -> Model:
-    """Run a geometry script's ``build`` with its defaults updated by ``params``."""
-    module = load_module(path)
+def build(path, params=None, module=None) -> Model:
+    """Run a geometry script's ``build`` with its defaults updated by ``params``.
+
+    ``module`` is the script as :func:`load_module` returned it, when the
+    caller has loaded it already (so the script is executed once).
+    """
+    if module is None:
+        module = load_module(path)
     params = dict(params or {})
     unknown = sorted(set(params) - set(module.PARAMETERS))
     if unknown:
