@@ -9,11 +9,22 @@ by size and by what is installed:
 * ``cholmod``: CHOLMOD through the optional ``scikit-sparse`` package;
 * ``superlu``: SciPy's SuperLU with a symmetric ordering (minimum degree on
   A + Aᵀ) and diagonal pivoting: always available, the fallback;
+* ``multigrid``: conjugate gradients preconditioned by a geometric
+  multigrid V-cycle on the chain of nested meshes the refinement made
+  (:func:`bridgecalc.adapt.refine` records each mesh's interpolation from
+  the coarser one). Coarse operators are the Galerkin products Pᵀ A P, so
+  material jumps on the coarse meshes are represented exactly; one forward
+  Gauss–Seidel sweep before and one backward sweep after the coarse
+  correction keep the preconditioner symmetric (Hackbusch, *Multi-Grid
+  Methods and Applications*, Springer 1985; Briggs, Henson & McCormick, *A
+  Multigrid Tutorial*, SIAM 2000). Needs the optional ``pyamg`` for its
+  compiled Gauss–Seidel sweeps; used for large systems that have a chain;
 * ``amg``: conjugate gradients preconditioned by smoothed-aggregation
-  algebraic multigrid (optional ``pyamg``), for the largest systems, where a
-  direct factor costs too much memory. Its residual is checked: an iterative
-  solve that does not reach :data:`CG_TOLERANCE` raises instead of returning an
-  unconverged field.
+  algebraic multigrid (optional ``pyamg``), for the largest systems without a
+  chain, where a direct factor costs too much memory.
+
+Iterative solves are checked: one that does not reach :data:`CG_TOLERANCE`
+falls back to a direct factor instead of returning an unconverged field.
 
 All choices give the same answer to round-off; a test compares them.
 """
@@ -31,8 +42,14 @@ import scipy.sparse.linalg as spla
 AMG_FROM = 400_000
 #: Below this many unknowns SuperLU is as fast as the optional factorisations.
 DIRECT_SMALL = 10_000
+#: Unknowns from which geometric multigrid replaces the direct solvers
+#: when the mesh has a refinement chain.
+MULTIGRID_FROM = 5_000
+#: Least ratio of unknowns between consecutive multigrid levels; finer steps
+#: of an adaptive chain are skipped (their interpolations multiplied) [-].
+MULTIGRID_COARSENING = 3.0
 #: Relative residual ‖b − Ax‖/‖b‖ an iterative solve must reach [-].
-CG_TOLERANCE = 1e-12
+CG_TOLERANCE = 1e-10
 #: Iterations after which an iterative solve is declared failed.
 CG_MAX_ITERATIONS = 500
 
@@ -42,7 +59,8 @@ _AVAILABLE: dict[str, bool] = {}
 def available(name: str) -> bool:
     """Whether an optional backend can be imported (checked once)."""
     if name not in _AVAILABLE:
-        module = {"pardiso": "pypardiso", "cholmod": "sksparse", "amg": "pyamg"}.get(name)
+        module = {"pardiso": "pypardiso", "cholmod": "sksparse", "amg": "pyamg",
+                  "multigrid": "pyamg"}.get(name)
         ok = module is None or importlib.util.find_spec(module) is not None
         if ok and name == "pardiso":
             # MKL PARDISO is x86-only; a broken MKL install must not break runs
@@ -56,22 +74,28 @@ def available(name: str) -> bool:
 
 def backends() -> list[str]:
     """Names of the backends usable here, fastest first."""
-    return [b for b in ("pardiso", "cholmod", "superlu", "amg") if available(b)]
+    return [b for b in BACKENDS if available(b)]
 
 
-def choose(n: int, preferred: str | None = None) -> str:
+BACKENDS = ("pardiso", "cholmod", "superlu", "multigrid", "amg")
+
+
+def choose(n: int, preferred: str | None = None, chain: bool = False) -> str:
     """The backend for a system of ``n`` unknowns.
 
     ``preferred`` (or the environment variable ``BRIDGECALC_SOLVER``) forces a
-    backend when it is available; unknown names raise ``ValueError``.
+    backend when it is available (``multigrid`` only with a refinement
+    ``chain``); unknown names raise ``ValueError``.
     """
     preferred = preferred or os.environ.get("BRIDGECALC_SOLVER") or None
     if preferred is not None:
-        if preferred not in ("pardiso", "cholmod", "superlu", "amg"):
+        if preferred not in BACKENDS:
             raise ValueError(f"unknown linear solver {preferred!r}; choose from "
-                             "pardiso, cholmod, superlu, amg")
-        if available(preferred):
+                             + ", ".join(BACKENDS))
+        if available(preferred) and (preferred != "multigrid" or chain):
             return preferred
+    if chain and n >= MULTIGRID_FROM and available("multigrid"):
+        return "multigrid"
     if n >= AMG_FROM and available("amg"):
         return "amg"
     if n < DIRECT_SMALL:
@@ -103,19 +127,34 @@ class SPDSolver:
         self.backend = backend
         self.used: str | None = None
         self._amg = None
+        self._multigrid = None
         self._cholmod_symbolic = None
         self.iterations = 0
 
-    def solve(self, matrix: sp.spmatrix, rhs: np.ndarray) -> np.ndarray:
-        """x with A x = b [same units as b / A]."""
+    def solve(self, matrix: sp.spmatrix, rhs: np.ndarray, prolongations=()) -> np.ndarray:
+        """x with A x = b [same units as b / A].
+
+        Parameters
+        ----------
+        matrix : sparse matrix, shape (n, n)
+        rhs : ndarray, shape (n,)
+        prolongations : sequence of sparse matrices, optional
+            Interpolations from each coarser nested mesh to the next finer
+            one, finest first (the first has n rows); enables ``multigrid``.
+        """
         matrix = sp.csr_matrix(matrix)
         n = matrix.shape[0]
-        backend = choose(n, self.backend)
+        chain = bool(prolongations) and prolongations[0].shape[0] == n
+        backend = choose(n, self.backend, chain)
         self.used = backend
         if backend == "pardiso":
             return _pardiso(matrix, rhs)
         if backend == "cholmod":
             return self._cholmod(matrix, rhs)
+        if backend == "multigrid":
+            if self._multigrid is None or self._multigrid.shape != matrix.shape:
+                self._multigrid = Multigrid(matrix, prolongations)
+            return self._cg(matrix, rhs, self._multigrid.preconditioner())
         if backend == "amg":
             return self._amg_cg(matrix, rhs)
         return _superlu(matrix, rhs)
@@ -135,7 +174,10 @@ class SPDSolver:
                 matrix, symmetry="symmetric", strength="symmetric", max_coarse=500,
                 presmoother=("gauss_seidel", {"sweep": "symmetric"}),
                 postsmoother=("gauss_seidel", {"sweep": "symmetric"}))
-        preconditioner = self._amg.aspreconditioner(cycle="V")
+        return self._cg(matrix, rhs, self._amg.aspreconditioner(cycle="V"))
+
+    def _cg(self, matrix, rhs, preconditioner):
+        """Preconditioned CG with a checked residual, or a direct fallback."""
         norm_b = float(np.linalg.norm(rhs))
         if norm_b == 0.0:
             return np.zeros_like(rhs)
@@ -150,9 +192,62 @@ class SPDSolver:
         relative = float(np.linalg.norm(rhs - matrix @ x)) / norm_b
         if info != 0 or relative > 10 * CG_TOLERANCE:
             # never return an unconverged field: fall back to a direct factor
-            self.used = "superlu (after amg did not converge)"
+            self.used = f"superlu (after {self.used} did not converge)"
             return _superlu(matrix, rhs)
         return x
+
+
+class Multigrid:
+    """Geometric multigrid V-cycle on nested meshes, as a CG preconditioner.
+
+    Parameters
+    ----------
+    matrix : csr_matrix, shape (n, n)
+        SPD system on the finest mesh. A hierarchy built for one matrix
+        preconditions others with the same shape: the two calculation cases
+        differ only in surface-resistance terms.
+    prolongations : sequence of sparse matrices
+        Interpolation from each coarser mesh to the next finer, finest first.
+        Consecutive ones are multiplied until the levels differ by at least
+        :data:`MULTIGRID_COARSENING` in size.
+    """
+
+    def __init__(self, matrix, prolongations):
+        from pyamg.relaxation.relaxation import gauss_seidel
+        self._smooth = gauss_seidel
+        self.shape = matrix.shape
+        self.operators, self.interpolations = [sp.csr_matrix(matrix)], []
+        p = None
+        steps = list(prolongations)
+        for k, step in enumerate(steps):
+            p = step if p is None else (p @ step).tocsr()
+            coarse_size = p.shape[1]
+            last = k == len(steps) - 1
+            if self.operators[-1].shape[0] < MULTIGRID_COARSENING * coarse_size and not last:
+                continue
+            a = self.operators[-1]
+            r = p.T.tocsr()
+            self.interpolations.append((p.tocsr(), r))
+            self.operators.append((r @ a @ p).tocsr())
+            p = None
+        self._coarse = spla.splu(self.operators[-1].tocsc(), permc_spec="MMD_AT_PLUS_A",
+                                 diag_pivot_thresh=0.0, options={"SymmetricMode": True})
+
+    def cycle(self, b: np.ndarray, level: int = 0) -> np.ndarray:
+        """One V-cycle from a zero start: an approximation of A⁻¹ b."""
+        if level == len(self.interpolations):
+            return self._coarse.solve(b)
+        a = self.operators[level]
+        p, r = self.interpolations[level]
+        x = np.zeros_like(b)
+        self._smooth(a, x, b, iterations=1, sweep="forward")
+        x += p @ self.cycle(r @ (b - a @ x), level + 1)
+        self._smooth(a, x, b, iterations=1, sweep="backward")
+        return x
+
+    def preconditioner(self) -> spla.LinearOperator:
+        return spla.LinearOperator(self.shape, matvec=lambda b: self.cycle(np.ravel(b)),
+                                   dtype=float)
 
 
 def _superlu(matrix, rhs):

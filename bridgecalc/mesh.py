@@ -98,6 +98,11 @@ class Mesh:
     def __repr__(self) -> str:
         return f"Mesh({self.node_count} nodes, {self.triangle_count} triangles)"
     _skfem: object = field(default=None, repr=False, compare=False)
+    #: The mesh this one was refined from (:func:`bridgecalc.adapt.refine`), or None.
+    coarser: "Mesh | None" = field(default=None, repr=False, compare=False)
+    #: Sparse (N, N_coarser) interpolation of P1 node values from ``coarser``
+    #: to this mesh (the coarse space is a subspace: meshes are nested), or None.
+    prolongation: object = field(default=None, repr=False, compare=False)
 
     @property
     def skfem(self):

@@ -3,8 +3,9 @@
 References outside this package: SciPy's general sparse LU (``spsolve``) for
 the solutions, and scikit-fem's generic quadrature assembly (a
 general-purpose finite element library from PyPI) for the matrices. The
-optional fast paths (PARDISO, CHOLMOD, AMG) are tested only where installed;
-the package must work without them (tested by switching them off).
+optional fast paths (PARDISO, CHOLMOD, AMG, geometric multigrid) are tested
+only where installed; the package must work without them (tested by
+switching them off).
 """
 
 import numpy as np
@@ -12,10 +13,12 @@ import pytest
 import scipy.sparse.linalg as spla
 from skfem import Basis, ElementTriP1, FacetBasis
 
-from bridgecalc import linsolve, validation
-from bridgecalc.mesh import build_mesh
+from bridgecalc import adapt, linsolve, validation
+from bridgecalc.errors import ModelError
+from bridgecalc.mesh import Mesh, build_mesh
 from bridgecalc.pipeline import _conditions, material_arrays, run
-from bridgecalc.solve import ConductionProblem, conduction, surface_load, surface_mass
+from bridgecalc.solve import (ConductionProblem, conduction, floating_part, surface_load,
+                              surface_mass)
 
 
 @pytest.fixture(scope="module")
@@ -61,6 +64,10 @@ def test_choice_by_size(monkeypatch):
     assert linsolve.choose(100) == "superlu"
     if linsolve.available("amg"):
         assert linsolve.choose(linsolve.AMG_FROM) == "amg"
+    if linsolve.available("multigrid"):
+        assert linsolve.choose(linsolve.MULTIGRID_FROM, chain=True) == "multigrid"
+        assert linsolve.choose(linsolve.MULTIGRID_FROM) != "multigrid"
+        assert linsolve.choose(100, "multigrid") != "multigrid"      # needs a chain
     with pytest.raises(ValueError, match="unknown linear solver"):
         linsolve.choose(100, "magic")
 
@@ -83,7 +90,78 @@ def test_works_without_optional_solvers(monkeypatch):
     """With every optional backend switched off, ISO 10211 case 2 still meets
     its published heat flow (9.5 W/m within 0.1, ISO 10211:2017 Annex C)."""
     monkeypatch.setattr(linsolve, "_AVAILABLE",
-                        {"pardiso": False, "cholmod": False, "amg": False, "superlu": True})
+                        {"pardiso": False, "cholmod": False, "amg": False, "multigrid": False,
+                         "superlu": True})
     result = run(validation.case2_model(), refinement=None)
     assert result.heat_flow_case.heat_flow["inside"] == pytest.approx(9.5, abs=0.1)
     assert result.heat_flow_case.balance < 1e-9
+    assert result.heat_flow_case.field.problem.linear_solver.used == "superlu"
+
+
+def test_prolongation_interpolates_linear_fields_exactly(case2_system):
+    """Nested P1 spaces: a linear field on the coarse mesh is the same linear
+    field on the refined one, node by node (the refinement adds midpoints)."""
+    _, mesh, _, _, _ = case2_system
+    fine = adapt.refine(mesh, np.arange(0, mesh.triangle_count, 4))
+    finer = adapt.refine(fine)
+
+    def linear(xy):
+        return 1.5 + 2.0 * xy[:, 0] - 3.0 * xy[:, 1]
+
+    for coarse, refined in ((mesh, fine), (fine, finer)):
+        assert refined.coarser is coarse
+        assert refined.prolongation.shape == (refined.node_count, coarse.node_count)
+        np.testing.assert_allclose(refined.prolongation @ linear(coarse.nodes),
+                                   linear(refined.nodes), rtol=0, atol=1e-12)
+        np.testing.assert_allclose(refined.prolongation @ coarse.nodes, refined.nodes,
+                                   rtol=0, atol=1e-15)
+
+
+@pytest.mark.parametrize("case", ["case1", "case2"])
+def test_multigrid_agrees_with_scipy_spsolve(case):
+    """CG with the V-cycle on the refinement chain reaches SciPy's direct
+    answer, also with held temperatures (ISO 10211 case 1: R = 0 sides)."""
+    if not linsolve.available("multigrid"):
+        pytest.skip("pyamg not installed")
+    model = getattr(validation, f"{case}_model")()
+    mesh = build_mesh(model)
+    mesh = adapt.refine(adapt.refine(mesh), np.arange(0, 4 * mesh.triangle_count, 3))
+    lam, q = material_arrays(model, mesh)
+    problem = ConductionProblem(mesh, lam, len(model.surfaces), q, solver="multigrid")
+    conditions = _conditions(model, False)
+    field = problem.solve(conditions)
+    assert problem.linear_solver.used == "multigrid"
+    assert 0 < problem.linear_solver.iterations < 40
+    matrix, rhs, held_surface, held = problem.system(conditions)
+    free = held_surface < 0
+    theta = np.where(free, 0.0, held)
+    a = matrix[free][:, free].tocsc()
+    theta[free] = spla.spsolve(a, rhs[free] - matrix[free][:, ~free] @ theta[~free])
+    assert np.abs(field.temperature - theta).max() <= 1e-8 * np.abs(theta).max()
+
+
+def _two_squares(tags_b):
+    """Two unit squares 1 m apart, two triangles each; square A's outline is
+    surface 0, square B's outline edges get ``tags_b``."""
+    nodes = np.array([[0, 0], [1, 0], [1, 1], [0, 1], [2, 0], [3, 0], [3, 1], [2, 1]], float)
+    triangles = np.array([[0, 1, 2], [0, 2, 3], [4, 5, 6], [4, 6, 7]])
+    edges = np.array([[0, 1], [1, 2], [2, 3], [3, 0], [4, 5], [5, 6], [6, 7], [7, 4]])
+    surface = np.array([0, 0, 0, 0, *tags_b])
+    return Mesh(nodes=nodes, triangles=triangles, region=np.array([0, 0, 1, 1]),
+                boundary_edges=edges, boundary_surface=surface, metres_per_unit=1.0)
+
+
+def test_a_part_touching_no_surface_is_found():
+    """A part without any exchanging or held surface makes the system singular:
+    its temperature level is undefined. Found also through the refinement
+    chain, and reported as a clear error instead of a solve."""
+    floating = _two_squares([-1, -1, -1, -1])
+    assert floating_part(floating, set(), {0})
+    assert floating_part(adapt.refine(adapt.refine(floating)), set(), {0})
+    assert not floating_part(_two_squares([-1, 1, -1, -1]), set(), {0, 1})
+    assert not floating_part(_two_squares([-1, 1, -1, -1]), {1}, {0})   # held side
+    assert not floating_part(_two_squares([1, 1, 1, 1]), {1}, {0})      # all held
+    problem = ConductionProblem(floating, np.ones(4), 2)
+    from bridgecalc.solve import Condition
+    with pytest.raises(ModelError, match="singular"):
+        problem.solve([Condition(20.0, 0.13), None])
