@@ -28,9 +28,12 @@ boundary conditions apart. Lengths are in the model's length unit.
 
 from __future__ import annotations
 
+import io
 import math
 import os
+import struct
 import tempfile
+import zlib
 from pathlib import Path
 
 # matplotlib caches fonts in MPLCONFIGDIR; a read-only home must not stop a run
@@ -43,6 +46,7 @@ matplotlib.use("Agg")
 import matplotlib.colors as mcolors  # noqa: E402
 import matplotlib.pyplot as plt  # noqa: E402
 import matplotlib.tri as mtri  # noqa: E402
+from matplotlib.cm import ScalarMappable  # noqa: E402
 import numpy as np  # noqa: E402
 from matplotlib.lines import Line2D  # noqa: E402
 from matplotlib.patches import Patch, PathPatch, Polygon  # noqa: E402
@@ -122,12 +126,9 @@ def _padded_extent(result):
     return lo - pad, hi + pad
 
 
-def _new_figure(result, title: str, subtitle: str):
-    """A figure sized to the section's aspect, with the house header.
-
-    Returns the figure, the plot axes and the panel box (left, bottom, width,
-    height) [figure fraction] for the legend or colour bar.
-    """
+def _section_layout(result):
+    """Aspect (height/width) of the section, whether panels go beside it, and the
+    plot width, plot height and figure height [in] of a figure of the section."""
     lo, hi = _padded_extent(result)
     span = hi - lo
     aspect = float(span[1] / max(span[0], 1e-12))
@@ -143,6 +144,27 @@ def _new_figure(result, title: str, subtitle: str):
         plot_w = PAGE_WIDTH - MARGIN_LEFT - MARGIN_RIGHT - 0.1
         plot_h = max(plot_w * aspect, 0.25)
         fig_h = MARGIN_TOP + plot_h + MARGIN_BOTTOM + BELOW_PANEL
+    return aspect, side, plot_w, plot_h, fig_h
+
+
+#: Height of the surface-temperature figure [in].
+PROFILE_HEIGHT = 3.9
+
+
+def figure_size(name: str, result) -> tuple[float, float]:
+    """Width and height [in] that figure ``name`` will have, without drawing it."""
+    if name == "surface_temperature":
+        return PAGE_WIDTH, PROFILE_HEIGHT
+    return PAGE_WIDTH, _section_layout(result)[4]
+
+
+def _new_figure(result, title: str, subtitle: str):
+    """A figure sized to the section's aspect, with the house header.
+
+    Returns the figure, the plot axes and the panel box (left, bottom, width,
+    height) [figure fraction] for the legend or colour bar.
+    """
+    aspect, side, plot_w, plot_h, fig_h = _section_layout(result)
     fig = plt.figure(figsize=(PAGE_WIDTH, fig_h))
     bottom = MARGIN_BOTTOM + (0.0 if side else BELOW_PANEL)
     ax = fig.add_axes([MARGIN_LEFT / PAGE_WIDTH, bottom / fig_h,
@@ -615,12 +637,22 @@ def _pixel_grid(fig, ax, result, triangulation):
     return gx, gy, px, py, cells
 
 
-def _field_image(ax, gx, gy, values, **style):
-    """A sampled field as one image over the plot; NaN (outside the solid) is transparent."""
+def _field_image(ax, gx, gy, values, cmap, norm, interpolation):
+    """A sampled field as one image over the plot; NaN (outside the solid) is transparent.
+
+    The colours are looked up here, once, as RGBA bytes: matplotlib would
+    otherwise map the values again in each of the three formats. (Scaled by
+    less than 3 on the page, it maps before resampling anyway, so the pixels
+    come out the same.) The image keeps ``cmap`` and ``norm`` for its colour bar.
+    """
     lo, hi = _padded_extent_from_grid(gx, gy)
-    image = ax.imshow(np.ma.masked_invalid(values), origin="lower", extent=(lo[0], hi[0],
-                      lo[1], hi[1]), aspect="equal", zorder=1, **style)
-    image.cmap.set_bad(alpha=0.0)
+    cmap = matplotlib.colormaps[cmap].with_extremes(bad=(0.0, 0.0, 0.0, 0.0))
+    rgba = cmap(norm(np.ma.masked_invalid(values)), bytes=True)
+    image = ax.imshow(rgba, origin="lower", extent=(lo[0], hi[0], lo[1], hi[1]),
+                      aspect="equal", zorder=1, interpolation=interpolation,
+                      interpolation_stage="rgba")
+    image.set_cmap(cmap)
+    image.set_norm(norm)
     return image
 
 
@@ -653,6 +685,12 @@ def _mark_minimum(ax, result):
     xy = mesh.nodes / model.metres_per_unit
     lo, hi = _padded_extent(result)
     reach = 0.12 * float((hi - lo).max())
+    # only triangles near the candidate boxes can cover them
+    corners = xy[mesh.triangles]
+    near = mesh.triangles[(corners[:, :, 0].max(1) >= x - 2.3 * reach)
+                          & (corners[:, :, 0].min(1) <= x + 2.3 * reach)
+                          & (corners[:, :, 1].max(1) >= y - reach)
+                          & (corners[:, :, 1].min(1) <= y + reach)]
     best = None
     for dx, dy in ((1, 1), (-1, 1), (1, -1), (-1, -1)):
         # sample the box the label would take, in data units
@@ -660,7 +698,7 @@ def _mark_minimum(ax, result):
         gy = np.sort(y + dy * reach * np.linspace(0.3, 0.9, 3))
         px, py = np.meshgrid(gx, gy)
         inside_axes = ((px > lo[0]) & (px < hi[0]) & (py > lo[1]) & (py < hi[1])).mean()
-        covered = (cells_on_grid(xy, mesh.triangles, gx, gy) >= 0).mean()
+        covered = (cells_on_grid(xy, near, gx, gy) >= 0).mean()
         score = (covered - 2.0 * inside_axes, -dy, -dx)
         if best is None or score < best[0]:
             best = (score, dx, dy)
@@ -674,8 +712,13 @@ def _mark_minimum(ax, result):
 
 
 def _colour_bar(fig, ax, mappable, aspect, label, ticks=None):
-    """Colour bar in the figure's panel: upright beside a tall section, flat below a wide one."""
+    """Colour bar in the figure's panel: upright beside a tall section, flat below a wide one.
+
+    It is drawn from ``mappable``'s colour map and norm only (a field image
+    holds colours, not values).
+    """
     left, bottom, width, height = fig._bridgecalc_panel
+    mappable = ScalarMappable(norm=mappable.norm, cmap=mappable.cmap)
     if _side_or_below(aspect):
         bar_h = min(height, 4.5 / fig.get_figheight())
         cax = fig.add_axes([left, bottom + height - bar_h, 0.16 / PAGE_WIDTH, bar_h])
@@ -783,7 +826,7 @@ def surface_temperature_figure(result, f_rsi_min=None):
     total = sum(float(p.arc_length[-1]) for p in profiles)
     gap = 0.04 * total if len(profiles) > 1 else 0.0
     with plt.rc_context({**STYLE, "axes.facecolor": PAPER}):
-        fig_h = 3.9
+        fig_h = PROFILE_HEIGHT
         fig = plt.figure(figsize=(PAGE_WIDTH, fig_h))
         ax = fig.add_axes([MARGIN_LEFT / PAGE_WIDTH, 1.35 / fig_h,
                            (PAGE_WIDTH - MARGIN_LEFT - 0.75) / PAGE_WIDTH,
@@ -882,27 +925,77 @@ def build_figure(name: str, result, **options):
     return BUILDERS[name](result, options)
 
 
+def prepare() -> None:
+    """Import the SVG and PDF writers and load the fonts, ahead of drawing.
+
+    Done once before figure workers are forked, they share it instead of
+    each doing it again (the PDF writer alone takes about 0.3 s to import).
+    """
+    import matplotlib.backends.backend_pdf  # noqa: F401
+    import matplotlib.backends.backend_svg  # noqa: F401
+    from matplotlib import font_manager
+    for weight in ("normal", "bold"):
+        font_manager.get_font(font_manager.findfont(
+            font_manager.FontProperties(family=STYLE["font.family"], weight=weight)))
+
+
+def png_bytes(pixels, dpi: float) -> bytes:
+    """A PNG file of 8-bit RGB or RGBA ``pixels``, shape (rows, columns, 3 or 4).
+
+    Every row uses the "Up" filter (PNG specification, filter type 2: the
+    difference to the row above, modulo 256) and zlib at level 1. Figures are
+    mostly flat colour and smooth fields, so this compresses as well as
+    choosing a filter per row, at a quarter of the time. The pHYs chunk states
+    ``dpi`` [1/in]; no text chunks, so the same pixels give the same bytes.
+    """
+    pixels = np.ascontiguousarray(pixels, dtype=np.uint8)
+    rows, columns, channels = pixels.shape
+    flat = pixels.reshape(rows, columns * channels)
+    filtered = np.empty((rows, columns * channels + 1), dtype=np.uint8)
+    filtered[:, 0] = 2
+    filtered[0, 1:] = flat[0]
+    np.subtract(flat[1:], flat[:-1], out=filtered[1:, 1:])
+
+    def chunk(kind: bytes, data: bytes) -> bytes:
+        return (struct.pack(">I", len(data)) + kind + data
+                + struct.pack(">I", zlib.crc32(kind + data) & 0xFFFFFFFF))
+
+    per_metre = int(round(dpi / 0.0254))
+    return (b"\x89PNG\r\n\x1a\n"
+            + chunk(b"IHDR", struct.pack(">IIBBBBB", columns, rows, 8,
+                                         {3: 2, 4: 6}[channels], 0, 0, 0))
+            + chunk(b"pHYs", struct.pack(">IIB", per_metre, per_metre, 1))
+            + chunk(b"IDAT", zlib.compress(filtered.tobytes(), 1))
+            + chunk(b"IEND", b""))
+
+
+def _render_png(fig, dpi: float) -> bytes:
+    """``fig`` drawn by Agg at ``dpi`` [1/in], as PNG bytes (RGB when it is opaque)."""
+    raw = io.BytesIO()
+    fig.savefig(raw, format="raw", dpi=dpi)
+    renderer = fig.canvas.renderer            # the one that just drew, at ``dpi``
+    width, height = int(renderer.width), int(renderer.height)
+    pixels = np.frombuffer(raw.getbuffer(), dtype=np.uint8).reshape(height, width, 4)
+    if pixels[..., 3].min() == 255:
+        pixels = pixels[..., :3]
+    return png_bytes(pixels, dpi)
+
+
 def save(fig, stem: Path, formats=FORMATS, dpi=PNG_DPI) -> list[Path]:
-    """Write ``fig`` as ``stem.png`` (``dpi``), ``stem.svg`` and ``stem.pdf``.
+    """Write ``fig`` as ``stem.png`` (``dpi`` [1/in]), ``stem.svg`` and ``stem.pdf``.
 
     Metadata that would change from run to run (dates, versions) is left
     out, so the same input gives the same files.
     """
-    metadata = {"png": {"Software": None},
-                "svg": {"Date": None, "Creator": None},
+    metadata = {"svg": {"Date": None, "Creator": None},
                 "pdf": {"CreationDate": None, "ModDate": None, "Producer": None,
                         "Creator": None}}
-    native = [a for ax in fig.axes for a in ax.get_children()
-              if getattr(a, "_bridgecalc_native_pdf", False)]
     written = []
     with plt.rc_context(STYLE):
         for fmt in formats:
             path = stem.with_suffix(f".{fmt}")
-            for artist in native:
-                artist.set_rasterized(fmt != "pdf")
             if fmt == "png":
-                fig.savefig(path, format=fmt, dpi=dpi, metadata=metadata[fmt],
-                            pil_kwargs={"compress_level": 1})
+                path.write_bytes(_render_png(fig, dpi))
             else:
                 fig.savefig(path, format=fmt, dpi=VECTOR_RASTER_DPI, metadata=metadata[fmt])
             written.append(path)
