@@ -146,10 +146,13 @@ def _flowables(report: Report, width: float, placed: list):
             out.append(Paragraph(_text(block.caption), s["caption"]) if block.caption
                        else Spacer(1, 8))
         elif isinstance(block, Figure):
-            from PIL import Image as PILImage
-            with PILImage.open(block.png) as im:
-                w_px, h_px = im.size
-            height = width * h_px / w_px
+            if block.size is not None:
+                fig_w, fig_h = block.size
+            else:
+                from PIL import Image as PILImage
+                with PILImage.open(block.png) as im:
+                    fig_w, fig_h = im.size
+            height = width * fig_h / fig_w
             vector = block.png.with_suffix(".pdf")
             max_height = 21.0 * 72 / 2.54        # leave room for the caption on an A4 page
             w = width
@@ -180,12 +183,14 @@ def _Placeholder(vector_pdf: Path, width: float, height: float, placed: list):
     return Placeholder()
 
 
-def _stamp_figures(path: Path, placed: list) -> None:
-    """Put each figure's PDF page into the report at its placeholder, scaled to fit.
+def stamp_figures(path, placed: list) -> None:
+    """Put each figure's PDF page into the report at ``path`` where :func:`lay_out`
+    left room for it, scaled to fit.
 
     The figure page becomes a form XObject whose content stream is copied as it
     is (still compressed), so nothing is parsed or re-encoded.
     """
+    path = Path(path)
     from pypdf import PdfReader, PdfWriter
     from pypdf.generic import (ArrayObject, DecodedStreamObject, DictionaryObject,
                                FloatObject, NameObject)
@@ -225,7 +230,20 @@ def _stamp_figures(path: Path, placed: list) -> None:
 
 
 def write_pdf(report: Report, path) -> None:
-    """Lay out ``report`` on A4 pages and write it to ``path``."""
+    """Lay out ``report`` on A4 pages and write it to ``path``, figures included."""
+    stamp_figures(path, lay_out(report, path))
+
+
+def lay_out(report: Report, path) -> list:
+    """Write ``report`` to ``path`` with empty space where each figure goes.
+
+    Needs each figure's PNG, or its ``size``, but not its PDF yet.
+
+    Returns
+    -------
+    list
+        Where each figure goes, for :func:`stamp_figures`.
+    """
     from reportlab.lib.colors import HexColor
     from reportlab.lib.pagesizes import A4
     from reportlab.lib.units import cm
@@ -254,4 +272,5 @@ def write_pdf(report: Report, path) -> None:
                   onLaterPages=footer)
     finally:
         rl_config.useA85 = saved
-    _stamp_figures(Path(path), placed)
+    return placed
+

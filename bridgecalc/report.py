@@ -53,9 +53,12 @@ class Table:
 
 @dataclass
 class Figure:
+    """A figure: its PNG file and, when known before it is drawn, its size [in]."""
+
     name: str
     png: Path
     caption: str
+    size: tuple[float, float] | None = None
 
 
 @dataclass
@@ -202,7 +205,8 @@ EXTRA_CAUTIONS = [
 
 def report_content(result, figures: dict | None = None, f_rsi_min: float | None = None,
                    stamp=None, dimension_system: str | None = None,
-                   files: list[str] | None = None, results_dict: dict | None = None) -> Report:
+                   files: list[str] | None = None, results_dict: dict | None = None,
+                   figure_sizes: dict | None = None) -> Report:
     """The report as blocks.
 
     Parameters
@@ -220,6 +224,9 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
         Names of the files written beside the report.
     results_dict : dict, optional
         ``result.to_dict()`` if already made (it may carry ``convergence``).
+    figure_sizes : dict of str to (float, float), optional
+        Width and height [in] per figure name, so the PDF can be laid out
+        before the PNG files exist.
     """
     data = results_dict if results_dict is not None else result.to_dict()
     model = result.model
@@ -421,7 +428,8 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
             caption += (f" The dash-dot line is the criterion fRsi = {_g(f_rsi_min)} given for "
                         f"this run." if f_rsi_min is not None else
                         " No criterion was given, so none is drawn.")
-        blocks.append(Figure(name, Path(figures[name]), f"Figure {k + 1}. {caption}"))
+        blocks.append(Figure(name, Path(figures[name]), f"Figure {k + 1}. {caption}",
+                             (figure_sizes or {}).get(name)))
 
     # -- validation stamp
     blocks.append(Heading(2, "Validation stamp", "validation"))
