@@ -12,8 +12,12 @@ Files of one run (:func:`write_outputs`)::
     report.pdf              the same report as PDF
     materials.{png,svg,pdf} and mesh, temperature, heat_flux, surface_temperature
 
-Figures are drawn in two worker processes where the platform can fork, since
-drawing fifteen files dominates the time of the outputs.
+Where the platform can fork, the fifteen figure files (most of the time of
+the outputs) are drawn in two worker processes, and a helper process writes
+the other files meanwhile: it is forked first, so it writes field.vtu and
+loads the PDF libraries while matplotlib is imported here, then lays out
+report.pdf while the figures are drawn; the figures' own PDF pages go into
+it at the end.
 """
 
 from __future__ import annotations
@@ -26,7 +30,7 @@ import os
 import shutil
 import sys
 import tempfile
-from concurrent.futures import ProcessPoolExecutor
+from concurrent.futures import Future, ProcessPoolExecutor
 from pathlib import Path
 
 from . import __version__
@@ -81,17 +85,24 @@ def _can_fork() -> bool:
     return sys.platform.startswith("linux") and "fork" in multiprocessing.get_all_start_methods()
 
 
-def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=None,
-                 meanwhile=None) -> dict:
+def default_workers() -> int:
+    """Figure processes: 2 where forking is available and there is more than one core."""
+    return 2 if (_can_fork() and (os.cpu_count() or 1) > 1) else 1
+
+
+#: Figures from the most to the least work to draw, so that two workers
+#: taking them in turn finish close together.
+DRAWING_ORDER = ("temperature", "heat_flux", "mesh", "materials", "surface_temperature")
+
+
+def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=None) -> dict:
     """Every figure as PNG, SVG and PDF in ``folder``.
 
     Parameters
     ----------
     workers : int, optional
-        Processes to draw in; default 2 where forking is available (and more
-        than one core), else drawing happens in this process.
-    meanwhile : callable, optional
-        Called in this process while the workers draw (other outputs).
+        Processes to draw in; default :func:`default_workers`; 1 draws in this
+        process.
 
     Returns
     -------
@@ -102,26 +113,91 @@ def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=Non
     from . import figures
     options = {"isotherm_step": isotherm_step, "f_rsi_min": f_rsi_min}
     if workers is None:
-        workers = 2 if (_can_fork() and (os.cpu_count() or 1) > 1) else 1
-    # heaviest first, so two workers finish together
-    order = ["temperature", "heat_flux", "mesh", "materials", "surface_temperature"]
-    order = [n for n in order if n in figures.FIGURES]
+        workers = default_workers()
+    order = [n for n in DRAWING_ORDER if n in figures.FIGURES]
+    order += [n for n in figures.FIGURES if n not in order]
     _JOB = (result, str(folder), options)
     try:
         if workers > 1 and _can_fork():
+            figures.prepare()                 # once here, not once per worker
             context = multiprocessing.get_context("fork")
             with ProcessPoolExecutor(max_workers=workers, mp_context=context) as pool:
                 futures = [pool.submit(_draw, n) for n in order]
-                if meanwhile is not None:
-                    meanwhile()
                 done = dict(f.result() for f in futures)
         else:
-            if meanwhile is not None:
-                meanwhile()
             done = dict(_draw(n) for n in order)
     finally:
         _JOB = None
     return {n: [Path(p) for p in done[n]] for n in figures.FIGURES}
+
+
+# -- the other files, possibly in a helper process ---------------------------------
+
+_REPORT = None    # what the helper needs, inherited when it is forked
+_REPORT_STATE: dict = {}   # the helper's own: the stamp once known
+
+
+def _other_files():
+    """field.vtu and results.csv; the stamp; the PDF libraries loaded. Returns the stamp."""
+    from . import exports, pdfreport, report
+    from . import stamp as stamps
+    result, staging, options = _REPORT
+    exports.write_vtu(result, staging / exports.VTU_FILE)
+    system, _ = report.stated_dimension_system(result.model, options["dimension_system"])
+    (staging / exports.CSV_FILE).write_text(
+        exports.csv_text(exports.headline_row(result, options["f_rsi_min"], system,
+                                              __version__)), encoding="utf-8")
+    stamp = options["stamp"]
+    if stamp is None:
+        stamp = stamps.current_stamp()
+    _REPORT_STATE["stamp"] = stamp
+    pdfreport.prepare()
+    return stamp
+
+
+def _report_pdf_pages(figure_pngs, figure_sizes, files):
+    """The report's content, and report.pdf laid out with room for the figures.
+
+    Returns the content and where the figures go (for :func:`_report_pdf_figures`).
+    """
+    from . import pdfreport, report
+    result, staging, options = _REPORT
+    content = report.report_content(
+        result, figure_pngs, options["f_rsi_min"], _REPORT_STATE["stamp"] or None,
+        options["dimension_system"], files, options["data"], figure_sizes)
+    return content, pdfreport.lay_out(content, staging / REPORT_PDF_FILE)
+
+
+def _report_pdf_figures(placed):
+    from . import pdfreport
+    _, staging, _ = _REPORT
+    pdfreport.stamp_figures(staging / REPORT_PDF_FILE, placed)
+
+
+class _Helper:
+    """One forked process for the files other than figures, or this process.
+
+    Forked before matplotlib is imported, it writes field.vtu and results.csv
+    and loads the PDF libraries while this process imports matplotlib, and
+    lays out report.pdf while the figures are drawn. Calls run in order.
+    """
+
+    def __init__(self, forked: bool):
+        self.pool = None
+        if forked:
+            self.pool = ProcessPoolExecutor(max_workers=1,
+                                            mp_context=multiprocessing.get_context("fork"))
+
+    def submit(self, fn, *args):
+        if self.pool is not None:
+            return self.pool.submit(fn, *args)
+        done: Future = Future()
+        done.set_result(fn(*args))
+        return done
+
+    def close(self):
+        if self.pool is not None:
+            self.pool.shutdown(wait=True, cancel_futures=True)
 
 
 # -- the whole set ------------------------------------------------------------------
@@ -146,42 +222,45 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
         The validation stamp; default the cached one of this build (running
         the checks once if there is none); False leaves it out.
     workers : int, optional
-        Processes for drawing figures (see :func:`draw_figures`).
+        Processes for drawing figures (see :func:`draw_figures`); with more
+        than one, a further process writes the other files meanwhile.
 
     Returns
     -------
     Path
         The destination folder.
     """
+    global _REPORT
     check_options(f_rsi_min, isotherm_step)
-    from . import exports, pdfreport, report
-    from . import stamp as stamps
     out_dir = Path(out_dir)
+    if workers is None:
+        workers = default_workers()
     with staged_folder(out_dir) as staging:
         data = result.to_dict()
         (staging / RESULTS_FILE).write_text(
             json.dumps(data, indent=2, ensure_ascii=False) + "\n", encoding="utf-8")
-
-        def other_outputs():
-            nonlocal stamp
-            exports.write_vtu(result, staging / exports.VTU_FILE)
-            system, _ = report.stated_dimension_system(result.model, dimension_system)
-            (staging / exports.CSV_FILE).write_text(
-                exports.csv_text(exports.headline_row(result, f_rsi_min, system, __version__)),
-                encoding="utf-8")
-            if stamp is None:
-                stamp = stamps.current_stamp()
-            pdfreport.prepare()               # imports and fonts, while figures are drawn
-
-        figure_files = draw_figures(result, staging, isotherm_step, f_rsi_min, workers,
-                                    meanwhile=other_outputs)
-        files = [RESULTS_FILE, exports.CSV_FILE, exports.VTU_FILE, REPORT_FILE,
-                 REPORT_PDF_FILE] + [p.name for n in figure_files for p in figure_files[n]]
-        content = report.report_content(
-            result, {n: paths[0] for n, paths in figure_files.items()}, f_rsi_min,
-            stamp or None, dimension_system, files, data)
-        (staging / REPORT_FILE).write_text(report.render_html(content), encoding="utf-8")
-        pdfreport.write_pdf(content, staging / REPORT_PDF_FILE)
+        _REPORT = (result, staging, {"f_rsi_min": f_rsi_min, "stamp": stamp, "data": data,
+                                     "dimension_system": dimension_system})
+        helper = _Helper(forked=workers > 1 and _can_fork())
+        try:
+            other = helper.submit(_other_files)
+            from . import exports, figures, report
+            names = list(figures.FIGURES)
+            pngs = {n: staging / f"{n}.png" for n in names}
+            sizes = {n: figures.figure_size(n, result) for n in names}
+            files = [RESULTS_FILE, exports.CSV_FILE, exports.VTU_FILE, REPORT_FILE,
+                     REPORT_PDF_FILE] + [f"{n}.{fmt}" for n in names for fmt in figures.FORMATS]
+            pages = helper.submit(_report_pdf_pages, pngs, sizes, files)
+            draw_figures(result, staging, isotherm_step, f_rsi_min, workers)
+            other.result()
+            content, placed = pages.result()
+            figures_in = helper.submit(_report_pdf_figures, placed)
+            (staging / REPORT_FILE).write_text(report.render_html(content), encoding="utf-8")
+            figures_in.result()
+        finally:
+            helper.close()
+            _REPORT = None
+            _REPORT_STATE.clear()
     return out_dir
 
 
