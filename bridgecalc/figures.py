@@ -598,28 +598,59 @@ def cells_on_grid(xy, triangles, gx, gy) -> np.ndarray:
         return cells
     tri = np.repeat(np.arange(len(triangles)), count)
     offset = np.arange(count.sum()) - np.repeat(np.cumsum(count) - count, count)
-    i = ix0[tri] + offset % cx[tri]
-    j = iy0[tri] + offset // cx[tri]
+    width = cx[tri]
+    i = ix0[tri] + offset % width
+    j = iy0[tri] + offset // width
     x, y = gx[i], gy[j]
-    a, b, c = p[tri, 0], p[tri, 1], p[tri, 2]
-    det = (b[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0])
-    l1 = ((x - a[:, 0]) * (c[:, 1] - a[:, 1]) - (y - a[:, 1]) * (c[:, 0] - a[:, 0])) / det
-    l2 = ((b[:, 0] - a[:, 0]) * (y - a[:, 1]) - (b[:, 1] - a[:, 1]) * (x - a[:, 0])) / det
+    maps = barycentric_maps(xy, triangles)[tri]                 # (S, 2, 3)
+    l1 = maps[:, 0, 0] * x + maps[:, 0, 1] * y + maps[:, 0, 2]
+    l2 = maps[:, 1, 0] * x + maps[:, 1, 1] * y + maps[:, 1, 2]
     tol = 1e-9
     inside = (l1 >= -tol) & (l2 >= -tol) & (l1 + l2 <= 1 + tol)
     cells[j[inside], i[inside]] = tri[inside]
     return cells
 
 
-def _linear_in_cells(xy, triangles, nodal, cells, x, y) -> np.ndarray:
-    """Nodal values interpolated linearly inside the given triangles at (x, y)."""
-    p = xy[triangles[cells]]
+def barycentric_maps(xy, triangles) -> np.ndarray:
+    """Per triangle, the affine maps from (x, y) to its barycentric coordinates λ1, λ2.
+
+    λk = m[k, 0] x + m[k, 1] y + m[k, 2], with λ1 = 1 at the second corner and
+    λ2 = 1 at the third (λ0 = 1 − λ1 − λ2 at the first).
+
+    Parameters
+    ----------
+    xy : ndarray, shape (N, 2)
+        Node positions [length_unit].
+    triangles : ndarray of int, shape (T, 3)
+
+    Returns
+    -------
+    ndarray, shape (T, 2, 3)
+        Coefficients [1/length_unit, 1/length_unit, -].
+    """
+    p = xy[triangles]
     a, b, c = p[:, 0], p[:, 1], p[:, 2]
-    det = (b[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0])
-    l1 = ((x - a[:, 0]) * (c[:, 1] - a[:, 1]) - (y - a[:, 1]) * (c[:, 0] - a[:, 0])) / det
-    l2 = ((b[:, 0] - a[:, 0]) * (y - a[:, 1]) - (b[:, 1] - a[:, 1]) * (x - a[:, 0])) / det
-    v = nodal[triangles[cells]]
-    return v[:, 0] * (1 - l1 - l2) + v[:, 1] * l1 + v[:, 2] * l2
+    e1, e2 = b - a, c - a
+    det = e1[:, 0] * e2[:, 1] - e1[:, 1] * e2[:, 0]
+    maps = np.empty((len(triangles), 2, 3))
+    maps[:, 0, 0], maps[:, 0, 1] = e2[:, 1] / det, -e2[:, 0] / det
+    maps[:, 1, 0], maps[:, 1, 1] = -e1[:, 1] / det, e1[:, 0] / det
+    maps[:, :, 2] = -(maps[:, :, 0] * a[:, None, 0] + maps[:, :, 1] * a[:, None, 1])
+    return maps
+
+
+def _linear_in_cells(xy, triangles, nodal, cells, x, y) -> np.ndarray:
+    """Nodal values interpolated linearly inside the given triangles at (x, y).
+
+    The interpolant of each triangle is an affine map v = g0 x + g1 y + g2,
+    formed once per triangle and then evaluated at each point.
+    """
+    maps = barycentric_maps(xy, triangles)                       # (T, 2, 3)
+    v = nodal[triangles]
+    slope = (v[:, 1:2] - v[:, 0:1]) * maps[:, 0] + (v[:, 2:3] - v[:, 0:1]) * maps[:, 1]
+    slope[:, 2] += v[:, 0]
+    g = slope[cells]
+    return g[:, 0] * x + g[:, 1] * y + g[:, 2]
 
 
 def _pixel_grid(fig, ax, result, triangulation):
@@ -965,7 +996,7 @@ def png_bytes(pixels, dpi: float) -> bytes:
             + chunk(b"IHDR", struct.pack(">IIBBBBB", columns, rows, 8,
                                          {3: 2, 4: 6}[channels], 0, 0, 0))
             + chunk(b"pHYs", struct.pack(">IIB", per_metre, per_metre, 1))
-            + chunk(b"IDAT", zlib.compress(filtered.tobytes(), 1))
+            + chunk(b"IDAT", zlib.compress(memoryview(filtered), 1))
             + chunk(b"IEND", b""))
 
 

@@ -137,3 +137,51 @@ def test_files_are_300_dpi_non_blank_and_repeatable(demo, tmp_path):
     svg = first[1].read_text(encoding="utf-8")
     assert "θsi,min" in svg and "fRsi = 0.7" in svg
     assert first[2].read_bytes().startswith(b"%PDF")
+
+
+@pytest.mark.parametrize("channels", [3, 4])
+def test_png_writer_round_trips_through_an_independent_decoder(tmp_path, channels):
+    # reference: Pillow's own PNG decoder reads back every pixel and the pHYs density
+    rng = np.random.default_rng(7)
+    pixels = rng.integers(0, 256, size=(37, 53, channels), dtype=np.uint8)
+    pixels[10:20, 5:40] = 200                       # a flat patch, as figures have
+    path = tmp_path / "x.png"
+    path.write_bytes(figures.png_bytes(pixels, 300))
+    with Image.open(path) as im:
+        assert im.mode == ("RGB" if channels == 3 else "RGBA")
+        assert im.info["dpi"][0] == pytest.approx(300, abs=0.5)
+        assert np.array_equal(np.asarray(im), pixels)
+
+
+def test_field_sampling_reproduces_a_linear_field_exactly(demo):
+    # reference: P1 interpolation is exact for a field linear in x and y
+    xy = demo.mesh.nodes / demo.model.metres_per_unit
+    nodal = 0.03 * xy[:, 0] - 0.02 * xy[:, 1] + 5.0
+    lo, hi = xy.min(axis=0), xy.max(axis=0)
+    gx = np.linspace(lo[0] - 50, hi[0] + 50, 97)
+    gy = np.linspace(lo[1] - 50, hi[1] + 50, 131)
+    cells = figures.cells_on_grid(xy, demo.mesh.triangles, gx, gy)
+    px, py = np.meshgrid(gx, gy)
+    inside = cells >= 0
+    assert 0.2 < inside.mean() < 0.9
+    # points beyond the bounding box of the section lie in no triangle
+    outside_box = (px < lo[0]) | (px > hi[0]) | (py < lo[1]) | (py > hi[1])
+    assert not inside[outside_box].any()
+    values = figures._linear_in_cells(xy, demo.mesh.triangles, nodal, cells[inside],
+                                      px[inside], py[inside])
+    exact = 0.03 * px[inside] - 0.02 * py[inside] + 5.0
+    assert np.max(np.abs(values - exact)) < 1e-9
+    # each found triangle really contains its point (barycentric coordinates in [0, 1])
+    maps = figures.barycentric_maps(xy, demo.mesh.triangles)[cells[inside]]
+    lam1 = maps[:, 0, 0] * px[inside] + maps[:, 0, 1] * py[inside] + maps[:, 0, 2]
+    lam2 = maps[:, 1, 0] * px[inside] + maps[:, 1, 1] * py[inside] + maps[:, 1, 2]
+    assert lam1.min() > -1e-8 and lam2.min() > -1e-8 and (lam1 + lam2).max() < 1 + 1e-8
+
+
+def test_figure_size_is_known_before_drawing(demo):
+    for name in figures.FIGURES:
+        fig = figures.build_figure(name, demo, f_rsi_min=0.75)
+        try:
+            assert tuple(fig.get_size_inches()) == pytest.approx(figures.figure_size(name, demo))
+        finally:
+            figures.plt.close(fig)
