@@ -18,6 +18,7 @@ import numpy as np
 from . import model as model_io
 from . import scripts
 from .errors import ModelError
+from .linsolve import one_blas_thread
 from .mesh import Mesh, MeshOptions, build_mesh
 from .model import Model
 from .results import (HeatFlowCase, SurfaceTemperatureCase, coupling_coefficient,
@@ -175,6 +176,11 @@ def run(model: Model, mesh_options: MeshOptions | None = None, element: str = "P
         ``coupling_coefficient`` are the study's best (extrapolated)
         estimates (see :mod:`bridgecalc.convergence`).
     """
+    with one_blas_thread():
+        return _run(model, mesh_options, element, tolerance, max_nodes, refinement)
+
+
+def _run(model, mesh_options, element, tolerance, max_nodes, refinement) -> Result:
     model_io.validate(model)
     design_temperatures(model)                 # fail before meshing
     if refinement is None:
