@@ -669,15 +669,20 @@ def _pixel_grid(fig, ax, result, triangulation):
 
 
 def _field_image(ax, gx, gy, values, cmap, norm, interpolation):
-    """A sampled field as one image over the plot; NaN (outside the solid) is transparent.
+    """A sampled field as one image over the plot; NaN (outside the solid) shows
+    the plot's background colour.
 
     The colours are looked up here, once, as RGBA bytes: matplotlib would
     otherwise map the values again in each of the three formats. (Scaled by
     less than 3 on the page, it maps before resampling anyway, so the pixels
-    come out the same.) The image keeps ``cmap`` and ``norm`` for its colour bar.
+    come out the same.) The image is opaque, in the background colour where
+    there is no solid: it covers the whole plot, so this looks the same as a
+    transparent image over the background, without matplotlib blending an
+    alpha channel in every format. The image keeps ``cmap`` and ``norm`` for
+    its colour bar.
     """
     lo, hi = _padded_extent_from_grid(gx, gy)
-    cmap = matplotlib.colormaps[cmap].with_extremes(bad=(0.0, 0.0, 0.0, 0.0))
+    cmap = matplotlib.colormaps[cmap].with_extremes(bad=ax.get_facecolor())
     rgba = cmap(norm(np.ma.masked_invalid(values)), bytes=True)
     image = ax.imshow(rgba, origin="lower", extent=(lo[0], hi[0], lo[1], hi[1]),
                       aspect="equal", zorder=1, interpolation=interpolation,
