@@ -71,12 +71,13 @@ def check_options(f_rsi_min=None, isotherm_step=None) -> None:
 _JOB = None   # (result, folder, options) inherited by forked workers
 
 
-def _draw(name):
+def _draw(name, formats=None):
     from . import figures
     result, folder, options = _JOB
     fig = figures.build_figure(name, result, **options)
     try:
-        return name, [str(p) for p in figures.save(fig, Path(folder) / name)]
+        return name, [str(p) for p in figures.save(fig, Path(folder) / name,
+                                                   formats or figures.FORMATS)]
     finally:
         figures.plt.close(fig)
 
@@ -90,9 +91,13 @@ def default_workers() -> int:
     return 2 if (_can_fork() and (os.cpu_count() or 1) > 1) else 1
 
 
-#: Figures from the most to the least work to draw, so that two workers
-#: taking them in turn finish close together.
-DRAWING_ORDER = ("temperature", "heat_flux", "mesh", "materials", "surface_temperature")
+#: Drawing tasks for worker processes, (figure, formats or None for all), from the
+#: most work to the least, so that two workers taking them in turn finish close
+#: together. The two lightest figures are built twice, once for the PNG and
+#: once for the vector files: that costs little and fills the end evenly.
+DRAWING_TASKS = (("temperature", None), ("heat_flux", None), ("mesh", None),
+                 ("materials", ("png",)), ("surface_temperature", ("png",)),
+                 ("materials", ("svg", "pdf")), ("surface_temperature", ("svg", "pdf")))
 
 
 def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=None) -> dict:
@@ -101,34 +106,41 @@ def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=Non
     Parameters
     ----------
     workers : int, optional
-        Processes to draw in; default :func:`default_workers`; 1 draws in this
-        process.
+        Processes to draw in (:data:`DRAWING_TASKS`); default
+        :func:`default_workers`; 1 draws each figure in this process.
 
     Returns
     -------
     dict of str to list of Path
-        Files per figure name, in :data:`bridgecalc.figures.FIGURES` order.
+        Files per figure name, in :data:`bridgecalc.figures.FIGURES` order,
+        each in :data:`bridgecalc.figures.FORMATS` order.
     """
     global _JOB
     from . import figures
     options = {"isotherm_step": isotherm_step, "f_rsi_min": f_rsi_min}
     if workers is None:
         workers = default_workers()
-    order = [n for n in DRAWING_ORDER if n in figures.FIGURES]
-    order += [n for n in figures.FIGURES if n not in order]
     _JOB = (result, str(folder), options)
+    written: dict = {n: [] for n in figures.FIGURES}
     try:
         if workers > 1 and _can_fork():
+            tasks = [t for t in DRAWING_TASKS if t[0] in written]
+            tasks += [(n, None) for n in figures.FIGURES if n not in {t[0] for t in tasks}]
             figures.prepare()                 # once here, not once per worker
             context = multiprocessing.get_context("fork")
             with ProcessPoolExecutor(max_workers=workers, mp_context=context) as pool:
-                futures = [pool.submit(_draw, n) for n in order]
-                done = dict(f.result() for f in futures)
+                futures = [pool.submit(_draw, *task) for task in tasks]
+                for future in futures:
+                    name, paths = future.result()
+                    written[name] += paths
         else:
-            done = dict(_draw(n) for n in order)
+            for name in figures.FIGURES:
+                written[name] += _draw(name)[1]
     finally:
         _JOB = None
-    return {n: [Path(p) for p in done[n]] for n in figures.FIGURES}
+    rank = {fmt: k for k, fmt in enumerate(figures.FORMATS)}
+    return {n: sorted((Path(p) for p in paths), key=lambda p: rank[p.suffix[1:]])
+            for n, paths in written.items()}
 
 
 # -- the other files, possibly in a helper process ---------------------------------
