@@ -38,7 +38,8 @@ def _parser() -> argparse.ArgumentParser:
     run.add_argument("--element", choices=("P1", "P2"), default="P1",
                      help="finite element: linear P1 (default) or quadratic P2")
     run.add_argument("--refine", type=float, default=1.0, metavar="FACTOR",
-                     help="divide all target element sizes by FACTOR (default 1)")
+                     help="divide all target element sizes of the first mesh of the "
+                          "convergence study by FACTOR (default 1)")
     run.add_argument("--tolerance", type=float, default=None, metavar="REL",
                      help="target estimated relative error of Ψ and L2D of the "
                           "mesh-convergence study (default 0.001, i.e. 0.1 %%)")
@@ -136,7 +137,9 @@ def summary(result, out_dir: Path) -> str:
 
 def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None,
                    dimension_system=None) -> Path:
-    from .mesh import MeshOptions
+    import dataclasses
+
+    from .convergence import FIRST_MESH
     from .outputs import check_options, write_outputs
     from .pipeline import run
     f_rsi_min = getattr(args, "f_rsi_min", None)
@@ -145,7 +148,8 @@ def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None,
     from .convergence import DEFAULT_MAX_NODES, DEFAULT_TOLERANCE
     tolerance = getattr(args, "tolerance", None)
     max_nodes = getattr(args, "max_nodes", None)
-    result = run(model, MeshOptions(refinement=refine), element,
+    # the study's first mesh, its sizes divided by --refine
+    result = run(model, dataclasses.replace(FIRST_MESH, refinement=refine), element,
                  tolerance=DEFAULT_TOLERANCE if tolerance is None else tolerance,
                  max_nodes=DEFAULT_MAX_NODES if max_nodes is None else max_nodes)
     write_outputs(result, out_dir, f_rsi_min=f_rsi_min, isotherm_step=isotherm_step,
