@@ -165,3 +165,18 @@ def test_a_part_touching_no_surface_is_found():
     from bridgecalc.solve import Condition
     with pytest.raises(ModelError, match="singular"):
         problem.solve([Condition(20.0, 0.13), None])
+
+
+def test_conjugate_gradients_reaches_the_direct_answer(case2_system):
+    """The package's own PCG (Jacobi-preconditioned here) reaches SciPy's LU
+    answer; given too few iterations it says so instead of returning."""
+    _, _, _, matrix, rhs = case2_system
+    inverse_diagonal = 1.0 / matrix.diagonal()
+    x, iterations = linsolve.conjugate_gradients(matrix, rhs, lambda r: inverse_diagonal * r,
+                                                 1e-12, 20_000)
+    reference = spla.spsolve(matrix.tocsc(), rhs)
+    assert iterations is not None and iterations > 10
+    assert np.abs(x - reference).max() <= 1e-8 * np.abs(reference).max()
+    _, none = linsolve.conjugate_gradients(matrix, rhs, lambda r: inverse_diagonal * r,
+                                           1e-12, 5)
+    assert none is None
