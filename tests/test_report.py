@@ -241,3 +241,20 @@ def test_stamp_is_cached_per_build(tmp_path, monkeypatch):
     assert (second.passed, second.failed) == (1, 1)
     assert re.fullmatch(r"\d{4}-\d\d-\d\dT\d\d:\d\d:\d\dZ", first.checked_at)
     assert os.listdir(tmp_path)
+
+
+def test_a_figure_failing_in_a_worker_process_leaves_nothing(demo, tmp_path, monkeypatch):
+    from bridgecalc import figures
+    if not outputs._can_fork():
+        pytest.skip("figure workers need fork")
+    real = figures.build_figure
+
+    def broken(name, *args, **kwargs):
+        if name == "mesh":
+            raise RuntimeError("mesh figure broke")
+        return real(name, *args, **kwargs)
+    # forked workers inherit the patched module; the helper process is running too
+    monkeypatch.setattr(figures, "build_figure", broken)
+    with pytest.raises(RuntimeError, match="mesh figure broke"):
+        outputs.write_outputs(demo, tmp_path / "out", stamp=HAND_STAMP, workers=2)
+    assert list(tmp_path.iterdir()) == []
