@@ -961,12 +961,39 @@ def build_figure(name: str, result, **options):
     return BUILDERS[name](result, options)
 
 
+def _defer_import(name: str) -> None:
+    """Let module ``name`` load when first used rather than when first imported.
+
+    matplotlib's PDF writer imports fontTools' subsetter (about 0.2 s) at
+    import, but uses it only for Type 42 fonts; the figures embed Type 3
+    (``pdf.fonttype`` in :data:`STYLE`). With a lazy module in its place it is
+    loaded only if some code does use it.
+    """
+    import importlib.util
+    import sys
+    if name in sys.modules:
+        return
+    spec = importlib.util.find_spec(name)
+    if spec is None or spec.loader is None:
+        return
+    spec.loader = importlib.util.LazyLoader(spec.loader)
+    module = importlib.util.module_from_spec(spec)
+    sys.modules[name] = module
+    spec.loader.exec_module(module)
+    # bound on its package too, so ``from package import module`` takes it as
+    # it is (looking it up through the import system would load it at once)
+    package, _, short = name.rpartition(".")
+    if package:
+        setattr(importlib.import_module(package), short, module)
+
+
 def prepare() -> None:
     """Import the SVG and PDF writers and load the fonts, ahead of drawing.
 
     Done once before figure workers are forked, they share it instead of
-    each doing it again (the PDF writer alone takes about 0.3 s to import).
+    each doing it again.
     """
+    _defer_import("fontTools.subset")
     import matplotlib.backends.backend_pdf  # noqa: F401
     import matplotlib.backends.backend_svg  # noqa: F401
     from matplotlib import font_manager
