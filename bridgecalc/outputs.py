@@ -93,11 +93,11 @@ def default_workers() -> int:
 
 #: Drawing tasks for worker processes, (figure, formats or None for all), from the
 #: most work to the least, so that two workers taking them in turn finish close
-#: together. The two lightest figures are built twice, once for the PNG and
-#: once for the vector files: that costs little and fills the end evenly.
+#: together. The lightest figure is built twice, once for the PNG and once for
+#: the vector files: that costs little and fills the end evenly.
 DRAWING_TASKS = (("temperature", None), ("heat_flux", None), ("mesh", None),
-                 ("materials", ("png",)), ("surface_temperature", ("png",)),
-                 ("materials", ("svg", "pdf")), ("surface_temperature", ("svg", "pdf")))
+                 ("materials", None), ("surface_temperature", ("png",)),
+                 ("surface_temperature", ("svg", "pdf")))
 
 
 def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=None) -> dict:
