@@ -266,7 +266,7 @@ def floating_part(mesh: Mesh, held_surfaces, exchanging_surfaces) -> bool:
 
 
 def held_nodes(mesh: Mesh, held_surfaces) -> np.ndarray:
-    """Mask of the mesh nodes on the given (held, R = 0) surfaces."""
+    """Mask of the mesh nodes on the outline edges of the given surfaces."""
     mask = np.zeros(mesh.node_count, dtype=bool)
     if held_surfaces:
         on = np.isin(mesh.boundary_surface, sorted(held_surfaces))
