@@ -131,6 +131,10 @@ class SPDSolver:
         self._cholmod_symbolic = None
         self.iterations = 0
 
+    def __getstate__(self):
+        # factorisations and hierarchies are rebuilt on demand, not pickled
+        return {**self.__dict__, "_amg": None, "_multigrid": None, "_cholmod_symbolic": None}
+
     def solve(self, matrix: sp.spmatrix, rhs: np.ndarray, prolongations=()) -> np.ndarray:
         """x with A x = b [same units as b / A].
 
