@@ -135,7 +135,8 @@ class SPDSolver:
         # factorisations and hierarchies are rebuilt on demand, not pickled
         return {**self.__dict__, "_amg": None, "_multigrid": None, "_cholmod_symbolic": None}
 
-    def solve(self, matrix: sp.spmatrix, rhs: np.ndarray, prolongations=()) -> np.ndarray:
+    def solve(self, matrix: sp.spmatrix, rhs: np.ndarray, prolongations=(),
+              initial=None) -> np.ndarray:
         """x with A x = b [same units as b / A].
 
         Parameters
@@ -145,6 +146,9 @@ class SPDSolver:
         prolongations : sequence of sparse matrices, optional
             Interpolations from each coarser nested mesh to the next finer
             one, finest first (the first has n rows); enables ``multigrid``.
+        initial : ndarray, optional
+            Starting guess for the iterative backends (e.g. the solution on
+            the coarser mesh, interpolated); direct backends ignore it.
         """
         matrix = sp.csr_matrix(matrix)
         n = matrix.shape[0]
@@ -158,9 +162,9 @@ class SPDSolver:
         if backend == "multigrid":
             if self._multigrid is None or self._multigrid.shape != matrix.shape:
                 self._multigrid = Multigrid(matrix, prolongations)
-            return self._cg(matrix, rhs, self._multigrid.preconditioner())
+            return self._cg(matrix, rhs, self._multigrid.preconditioner(), initial)
         if backend == "amg":
-            return self._amg_cg(matrix, rhs)
+            return self._amg_cg(matrix, rhs, initial)
         return _superlu(matrix, rhs)
 
     def _cholmod(self, matrix, rhs):
@@ -171,20 +175,20 @@ class SPDSolver:
         factor = self._cholmod_symbolic[1].cholesky(a)
         return factor(rhs)
 
-    def _amg_cg(self, matrix, rhs):
+    def _amg_cg(self, matrix, rhs, initial=None):
         import pyamg
         if self._amg is None or self._amg.levels[0].A.shape != matrix.shape:
             self._amg = pyamg.smoothed_aggregation_solver(
                 matrix, symmetry="symmetric", strength="symmetric", max_coarse=500,
                 presmoother=("gauss_seidel", {"sweep": "symmetric"}),
                 postsmoother=("gauss_seidel", {"sweep": "symmetric"}))
-        return self._cg(matrix, rhs, self._amg.aspreconditioner(cycle="V"))
+        return self._cg(matrix, rhs, self._amg.aspreconditioner(cycle="V"), initial)
 
-    def _cg(self, matrix, rhs, preconditioner):
+    def _cg(self, matrix, rhs, preconditioner, initial=None):
         """Preconditioned CG with a checked residual, or a direct fallback."""
         x, iterations = conjugate_gradients(matrix, rhs, preconditioner, CG_TOLERANCE,
-                                            CG_MAX_ITERATIONS)
-        self.iterations = iterations or CG_MAX_ITERATIONS
+                                            CG_MAX_ITERATIONS, initial)
+        self.iterations = CG_MAX_ITERATIONS if iterations is None else iterations
         norm_b = float(np.sqrt(_dot(rhs, rhs)))
         relative = 0.0 if norm_b == 0.0 else float(np.sqrt(_dot(r := rhs - matrix @ x, r))) / norm_b
         if iterations is None or relative > 10 * CG_TOLERANCE:
@@ -199,8 +203,9 @@ def _dot(a: np.ndarray, b: np.ndarray) -> float:
     return float(np.add.reduce(a * b))
 
 
-def conjugate_gradients(matrix, rhs, preconditioner, rtol: float, max_iterations: int):
-    """Preconditioned conjugate gradients from x = 0 (Hestenes & Stiefel, J. Res.
+def conjugate_gradients(matrix, rhs, preconditioner, rtol: float, max_iterations: int,
+                        initial=None):
+    """Preconditioned conjugate gradients (Hestenes & Stiefel, J. Res.
     Nat. Bur. Standards 49, 1952; the preconditioned form as in Saad, *Iterative
     Methods for Sparse Linear Systems*, 2nd ed., SIAM 2003, Algorithm 9.1).
 
@@ -214,6 +219,8 @@ def conjugate_gradients(matrix, rhs, preconditioner, rtol: float, max_iterations
     rtol : float
         Stop when ‖b − A x‖ ≤ rtol ‖b‖ (recursively updated residual) [-].
     max_iterations : int
+    initial : ndarray, optional
+        Starting guess (default zero).
 
     Returns
     -------
@@ -223,11 +230,16 @@ def conjugate_gradients(matrix, rhs, preconditioner, rtol: float, max_iterations
     """
     apply = preconditioner.matvec if hasattr(preconditioner, "matvec") else preconditioner
     b = np.asarray(rhs, dtype=float)
-    x = np.zeros_like(b)
     limit = rtol * np.sqrt(_dot(b, b))
     if limit == 0.0:
-        return x, 0
-    r = b.copy()
+        return np.zeros_like(b), 0
+    if initial is None:
+        x, r = np.zeros_like(b), b.copy()
+    else:
+        x = np.array(initial, dtype=float)
+        r = b - matrix @ x
+        if np.sqrt(_dot(r, r)) <= limit:
+            return x, 0
     z = apply(r)
     p = z.copy()
     rz = _dot(r, z)

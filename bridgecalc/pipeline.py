@@ -136,15 +136,22 @@ def material_arrays(model: Model, mesh: Mesh):
     return conductivity[mesh.region], source[mesh.region]
 
 
-def _solve_mesh(model: Model, mesh: Mesh, element: str):
-    """Both calculation cases on one mesh, sharing its assembled operators."""
+def _solve_mesh(model: Model, mesh: Mesh, element: str, coarser=None):
+    """Both calculation cases on one mesh, sharing its assembled operators.
+
+    ``coarser``: the (heat, surface) temperature fields of ``mesh.coarser``,
+    interpolated as starting guesses for iterative solvers (nested iteration).
+    """
     conductivity, source = material_arrays(model, mesh)
     problem = ConductionProblem(mesh, conductivity, len(model.surfaces), source, element)
+    guesses = (None, None)
+    if coarser is not None and element == "P1" and mesh.prolongation is not None:
+        guesses = tuple(mesh.prolongation @ f.temperature for f in coarser)
     heat_conditions = _conditions(model, False)
-    heat_field = problem.solve(heat_conditions)
+    heat_field = problem.solve(heat_conditions, guesses[0])
     surface_conditions = _conditions(model, True)
     surface_field = (heat_field if surface_conditions == heat_conditions
-                     else problem.solve(surface_conditions))
+                     else problem.solve(surface_conditions, guesses[1]))
     return (heat_flow_case(model, heat_field), surface_temperature_case(model, surface_field),
             problem, heat_field, heat_conditions)
 
@@ -187,11 +194,13 @@ def _run(model, mesh_options, element, tolerance, max_nodes, refinement) -> Resu
         mesh = build_mesh(model, mesh_options)
         heat, surface, *_ = _solve_mesh(model, mesh, element)
         return Result(model, mesh, element, heat, surface)
-    level_flows = []
+    level_flows, last = [], {}
 
     def solve_level(mesh):
-        solved = _solve_mesh(model, mesh, element)
+        previous = last.get("fields") if last.get("mesh") is mesh.coarser else None
+        solved = _solve_mesh(model, mesh, element, previous)
         level_flows.append(dict(solved[0].heat_flow))
+        last.update(mesh=mesh, fields=(solved[0].field, solved[1].field))
         return solved
 
     heat, surface, mesh, study = convergence_study.converge(

@@ -497,13 +497,16 @@ class ConductionProblem:
             self._hierarchies = {key: chain}        # one set of conditions at a time
         return self._hierarchies[key]
 
-    def solve(self, conditions) -> TemperatureField:
+    def solve(self, conditions, initial=None) -> TemperatureField:
         """Temperatures and surface heat flows for one set of conditions.
 
         Parameters
         ----------
         conditions : sequence of Condition or None
             One per surface index; ``None`` leaves that surface adiabatic.
+        initial : ndarray, optional
+            A guess of the degrees of freedom [°C] for iterative solvers,
+            e.g. the coarser mesh's field interpolated (nested iteration).
         """
         matrix, rhs, held_surface, held = self.system(conditions)
         is_held = held_surface >= 0
@@ -524,7 +527,8 @@ class ConductionProblem:
                 raise ModelError("the conduction system is singular: some part of the solid "
                                  "touches no surface with a finite resistance")
             theta[free] = self.linear_solver.solve(
-                a_ff, b_f, prolongations=self._prolongations(free, held_surfaces))
+                a_ff, b_f, prolongations=self._prolongations(free, held_surfaces),
+                initial=None if initial is None else np.asarray(initial, float)[free])
         if not np.all(np.isfinite(theta)):
             raise ModelError("the conduction system is singular: some part of the solid "
                              "touches no surface with a finite resistance")
