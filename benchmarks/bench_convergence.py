@@ -84,7 +84,7 @@ def baseline_psi(model, refinement):
         used = "spsolve"
 
         @staticmethod
-        def solve(a, b, prolongations=()):
+        def solve(a, b, prolongations=(), initial=None):
             return spla.spsolve(a.tocsc(), b)
 
     problem.linear_solver = Direct()
