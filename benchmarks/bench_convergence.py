@@ -66,19 +66,7 @@ def baseline_psi(model, refinement):
     t0 = time.perf_counter()
     mesh = build_mesh(model, MeshOptions(refinement=refinement, **UNIFORM))
     lam, _ = material_arrays(model, mesh)
-    basis = Basis(mesh.skfem, ElementTriP1())
-    k = conduction.assemble(basis, conductivity=np.repeat(lam[:, None], basis.X.shape[1], 1))
-    # boundary terms through the same skfem path (ConductionProblem's P2 route uses it)
-    problem = ConductionProblem.__new__(ConductionProblem)
-    problem.mesh, problem.element, problem.n_surfaces = mesh, "P1", len(model.surfaces)
-    problem._basis = basis
-    problem.conductivity, problem.source = lam, np.zeros(len(lam))
-    problem._assemble_skfem(problem.source)
-    problem.stiffness = k.tocsr()
-    problem.stiffness.sum_duplicates()
-    problem.generated = 0.0
-    problem._point_cache = {}
-    problem._stiffness_keys, problem._exchange_positions, problem._hierarchies = None, {}, {}
+    problem = ConductionProblem(mesh, lam, len(model.surfaces), generic=True)
 
     class Direct:
         used = "spsolve"
@@ -104,7 +92,7 @@ def junction_rows(names):
         psi_ref = ref.psi
         print(f"{name}: reference Ψ {psi_ref:.7f} W/(m·K) ± {ref.convergence.psi_error_estimate:.1e} "
               f"({ref.mesh.node_count} nodes, {t_ref:.1f} s)", flush=True)
-        cumulative, base, last_nodes = 0.0, None, 0
+        cumulative, base, last_nodes, prev_r = 0.0, None, 0, None
         for r in REFINEMENTS:
             if last_nodes and last_nodes * (r / prev_r) ** 2 > BASELINE_MAX_NODES:
                 break

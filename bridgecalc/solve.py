@@ -294,10 +294,14 @@ class ConductionProblem:
         ``"P1"`` (linear) or ``"P2"`` (quadratic) Lagrange triangles.
     solver : str, optional
         Force a linear-solver backend (see :mod:`bridgecalc.linsolve`).
+    generic : bool
+        Assemble P1 through scikit-fem's generic quadrature too (the P2
+        path) instead of the closed-form element matrices: the same matrices,
+        slower; for comparisons and benchmarks.
     """
 
     def __init__(self, mesh: Mesh, conductivity, n_surfaces: int, source=None,
-                 element: str = "P1", solver: str | None = None):
+                 element: str = "P1", solver: str | None = None, generic: bool = False):
         if element not in ELEMENTS:
             raise ModelError(f"element must be one of {', '.join(ELEMENTS)}, got {element!r}")
         self.mesh = mesh
@@ -310,7 +314,7 @@ class ConductionProblem:
         self.linear_solver = SPDSolver(solver)
         self._basis = None
         self.edge_midpoint_dofs = None
-        if element == "P1":
+        if element == "P1" and not generic:
             self._assemble_p1(source)
         else:
             self._assemble_skfem(source)
@@ -319,7 +323,7 @@ class ConductionProblem:
         self.stiffness.sum_duplicates()                 # canonical: sorted, unique
         self._stiffness_keys = None
         self._exchange_positions: dict[int, tuple | None] = {}
-        self._hierarchies: dict[bytes, list] = {}
+        self._chain: tuple[bytes, list] | None = None   # (free-node mask, interpolations)
 
     @property
     def n_dofs(self) -> int:
@@ -484,7 +488,7 @@ class ConductionProblem:
         if self.element != "P1" or self.mesh.coarser is None:
             return []
         key = free.tobytes()
-        if key not in self._hierarchies:
+        if self._chain is None or self._chain[0] != key:
             chain, mesh, free_fine = [], self.mesh, free
             while mesh.coarser is not None:
                 coarse = mesh.coarser
@@ -494,8 +498,8 @@ class ConductionProblem:
                     p = p[np.flatnonzero(free_fine)][:, np.flatnonzero(free_coarse)].tocsr()
                 chain.append(p)
                 mesh, free_fine = coarse, free_coarse
-            self._hierarchies = {key: chain}        # one set of conditions at a time
-        return self._hierarchies[key]
+            self._chain = (key, chain)              # one set of held nodes at a time
+        return self._chain[1]
 
     def solve(self, conditions, initial=None) -> TemperatureField:
         """Temperatures and surface heat flows for one set of conditions.
