@@ -290,8 +290,7 @@ class Multigrid:
             self.interpolations.append((p.tocsr(), r))
             self.operators.append((r @ a @ p).tocsr())
             p = None
-        self._coarse = spla.splu(self.operators[-1].tocsc(), permc_spec="MMD_AT_PLUS_A",
-                                 diag_pivot_thresh=0.0, options={"SymmetricMode": True})
+        self._coarse = _symmetric_lu(self.operators[-1])
 
     def cycle(self, b: np.ndarray, level: int = 0) -> np.ndarray:
         """One V-cycle from a zero start: an approximation of A⁻¹ b."""
@@ -310,10 +309,15 @@ class Multigrid:
                                    dtype=float)
 
 
+def _symmetric_lu(matrix):
+    """SuperLU factor with a symmetric ordering (minimum degree on A + Aᵀ) and
+    diagonal pivots, as suits SPD matrices."""
+    return spla.splu(sp.csc_matrix(matrix), permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
+                     options={"SymmetricMode": True})
+
+
 def _superlu(matrix, rhs):
-    lu = spla.splu(matrix.tocsc(), permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
-                   options={"SymmetricMode": True})
-    return lu.solve(np.asarray(rhs, dtype=float))
+    return _symmetric_lu(matrix).solve(np.asarray(rhs, dtype=float))
 
 
 _PARDISO = []
