@@ -109,6 +109,7 @@ def _load(path: str, assignments):
 
 def summary(result, out_dir: Path) -> str:
     """The one-screen table printed after a run."""
+    from .results import printed_position
     hf, st = result.heat_flow_case, result.surface_temperature_case
     unit = result.model.length_unit
     lines = [f"{result.model.name or result.model.origin}",
@@ -122,8 +123,8 @@ def summary(result, out_dir: Path) -> str:
         lines.append(f"  U·l {f.name[:14]:<15}{f.ul:12.4f} W/(m·K)")
     if hf.psi is not None:
         lines.append(f"  Ψ                  {hf.psi:12.4f} W/(m·K)")
-    x, y = st.theta_si_min_at
-    lines.append(f"  θsi,min            {st.theta_si_min:12.2f} °C at ({x:g}, {y:g}) {unit}")
+    at = printed_position(result.model, st.theta_si_min_at)
+    lines.append(f"  θsi,min            {st.theta_si_min:12.2f} °C at {at} {unit}")
     lines.append(f"  fRsi               {st.f_rsi:12.3f}")
     for name, value in st.probes.items():
         lines.append(f"  probe {name:<13}{value:12.2f} °C (surface-temperature case)")

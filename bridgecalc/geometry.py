@@ -21,6 +21,36 @@ def largest_dimension(polygons) -> float:
     return float(max(span.max(), np.finfo(float).tiny))
 
 
+#: Positions are printed to this fraction of the model's largest dimension.
+PRINTED_RESOLUTION_RELATIVE = 1e-4
+
+
+def position_text(point, size: float) -> str:
+    """``(x, y)`` for people: rounded to a ten-thousandth of ``size``.
+
+    A mesh node of a 24 m ground model sits at x = −6.86813 mm; what a reader
+    can use is (−7, 150). Trailing zeros go, a minus zero prints as 0; the
+    minus sign is the ASCII hyphen (callers that typeset replace it).
+
+    Parameters
+    ----------
+    point : sequence of float
+        Coordinates [length].
+    size : float
+        The model's largest dimension [length] (:func:`largest_dimension`).
+    """
+    step = PRINTED_RESOLUTION_RELATIVE * size
+    decimals = max(0, -int(np.floor(np.log10(step)))) if step > 0 else 6
+
+    def one(value):
+        text = f"{float(value):.{decimals}f}"
+        if "." in text:
+            text = text.rstrip("0").rstrip(".")
+        return "0" if text in ("-0", "") else text
+
+    return "(" + ", ".join(one(c) for c in point) + ")"
+
+
 def on_path_tolerance(polygons) -> float:
     """Distance within which a point counts as on a path [length]."""
     return ON_PATH_RELATIVE_TOLERANCE * largest_dimension(polygons)

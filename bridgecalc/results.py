@@ -13,6 +13,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from . import geometry
 from .errors import ModelError
 from .model import Model, flanking_u_value
 
@@ -152,6 +153,17 @@ class SurfaceTemperatureCase:
     f_rsi: float
     probes: dict[str, float]
     field: object = field(repr=False, default=None)
+
+
+def printed_position(model: Model, point) -> str:
+    """A position [length_unit] as text, to a ten-thousandth of the model's size.
+
+    The one rounding of positions for the summary, the report and the
+    figures (:func:`bridgecalc.geometry.position_text`); results.json keeps
+    every digit.
+    """
+    size = geometry.largest_dimension([r.vertices for r in model.regions])
+    return geometry.position_text(point, size)
 
 
 def heat_flow_balance(heat_flow: dict, generated: float = 0.0) -> float:

@@ -235,3 +235,13 @@ def test_flanking_result_is_ul(balcony):
     assert result.psi == pytest.approx(result.coupling_coefficient - total, abs=1e-12)
     assert isinstance(balcony.flanking[0], Flanking)
     assert all(isinstance(s, Surface) for s in balcony.surfaces)
+
+
+def test_positions_are_printed_to_a_ten_thousandth_of_the_model():
+    """The rounding rule of bridgecalc.geometry.position_text (the tool's own)."""
+    from bridgecalc.geometry import position_text
+    assert position_text((-6.86813, 150.0), 24400.0) == "(-7, 150)"
+    assert position_text((0.0, -1200.0), 2620.0) == "(0, -1200)"
+    assert position_text((191.04, 100.0), 2620.0) == "(191, 100)"
+    assert position_text((0.012549, 1.2), 2.62) == "(0.0125, 1.2)"
+    assert position_text((-0.00001, 3.0), 2.62) == "(0, 3)"
