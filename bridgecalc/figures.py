@@ -51,11 +51,12 @@ import numpy as np  # noqa: E402
 from matplotlib.lines import Line2D  # noqa: E402
 from matplotlib.patches import Patch, PathPatch, Polygon  # noqa: E402
 from matplotlib.path import Path as PlotPath  # noqa: E402
+from matplotlib.text import Text  # noqa: E402
 from matplotlib.ticker import FuncFormatter  # noqa: E402
 from mpl_toolkits.axes_grid1.anchored_artists import AnchoredSizeBar  # noqa: E402
 
 from .results import (design_temperatures, heat_flux_density,  # noqa: E402
-                      interior_surface_profiles)
+                      interior_surface_profiles, printed_position)
 
 FIGURES = ("materials", "mesh", "temperature", "heat_flux", "surface_temperature")
 FORMATS = ("png", "svg", "pdf")
@@ -126,10 +127,58 @@ def _padded_extent(result):
     return lo - pad, hi + pad
 
 
-def _section_layout(result):
-    """Aspect (height/width) of the section, whether panels go beside it, and the
-    plot width, plot height and figure height [in] of a figure of the section."""
+#: A detail view is drawn when the junction's box covers less than this share
+#: of the whole section's box (a ground-floor model's ground block, say).
+DETAIL_AREA_SHARE = 0.25
+
+
+def detail_window(result):
+    """Plot limits [length_unit] of a close view of the junction, or None.
+
+    Some sections are much larger than the construction they hold: ISO 10211
+    asks for a ground block of several metres around a ground-floor edge. A
+    view of the whole shows the junction as a few pixels. The construction
+    is where the regions' corners crowd: a corner counts when another corner
+    lies within a tenth of the section's size; the window is the box of those
+    corners with a margin, drawn only when it covers less than
+    :data:`DETAIL_AREA_SHARE` of the whole (the tool's own rule).
+    """
+    model = result.model
+    corners = np.unique(np.concatenate([np.asarray(r.vertices, float)
+                                        for r in model.regions]), axis=0)
     lo, hi = _padded_extent(result)
+    size = float((hi - lo).max())
+    if len(corners) < 3 or size <= 0:
+        return None
+    gap = np.sqrt(((corners[:, None, :] - corners[None, :, :]) ** 2).sum(axis=2))
+    np.fill_diagonal(gap, np.inf)
+    crowded = corners[gap.min(axis=1) < 0.1 * size]
+    if len(crowded) < 3:
+        return None
+    a, b = crowded.min(axis=0), crowded.max(axis=0)
+    pad = max(0.15 * float((b - a).max()), 0.03 * size)
+    # no further than the solid, then the same 3 % margin as a whole view
+    xy = result.mesh.nodes / model.metres_per_unit
+    a, b = np.maximum(a - pad, xy.min(axis=0)), np.minimum(b + pad, xy.max(axis=0))
+    margin = 0.03 * float((b - a).max())
+    a, b = a - margin, b + margin
+    if np.prod(b - a) >= DETAIL_AREA_SHARE * np.prod(hi - lo):
+        return None
+    return a, b
+
+
+def _section_layout(extent, legend_rows=0):
+    """Aspect (height/width) of a view, whether panels go beside it, and the
+    plot width, plot height and figure height [in] of a figure of it.
+
+    Parameters
+    ----------
+    extent : (ndarray, ndarray)
+        Lower-left and upper-right plot limits [length_unit].
+    legend_rows : int
+        Rows of two-line legend entries the panel below a wide view must hold.
+    """
+    lo, hi = extent
     span = hi - lo
     aspect = float(span[1] / max(span[0], 1e-12))
     side = _side_or_below(aspect)
@@ -143,60 +192,145 @@ def _section_layout(result):
     else:
         plot_w = PAGE_WIDTH - MARGIN_LEFT - MARGIN_RIGHT - 0.1
         plot_h = max(plot_w * aspect, 0.25)
-        fig_h = MARGIN_TOP + plot_h + MARGIN_BOTTOM + BELOW_PANEL
+        fig_h = MARGIN_TOP + plot_h + MARGIN_BOTTOM + _below_panel(legend_rows)
     return aspect, side, plot_w, plot_h, fig_h
 
 
-#: Height of the surface-temperature figure [in].
-PROFILE_HEIGHT = 3.9
+def _below_panel(legend_rows: int) -> float:
+    """Height [in] of the panel under a wide view: a colour bar, or a legend
+    (title, then rows of two-line entries)."""
+    return max(BELOW_PANEL, 0.45 + LEGEND_ROW * legend_rows)
+
+
+#: Height of a row of two-line legend entries [in].
+LEGEND_ROW = 0.3
+
+
+def _legend_rows(name: str, result) -> int:
+    """Rows of the legend of figure ``name`` when it sits in two columns below the view."""
+    if name in ("materials", "materials_detail"):
+        return math.ceil(len(_material_codes(result)[0]) / 2)
+    if name == "mesh":
+        return 2
+    return 0
+
+
+#: Height of the surface-temperature figure, and of the room under its plot
+#: for the axis and the legend [in].
+PROFILE_HEIGHT, PROFILE_BOTTOM = 3.6, 1.2
+
+#: Figures of the junction's detail window, when there is one; each follows
+#: its view of the whole section.
+DETAIL_FIGURES = ("materials_detail", "temperature_detail")
+
+
+def figure_names(result) -> tuple[str, ...]:
+    """The figures of a run: :data:`FIGURES`, and the detail views when the
+    section has a :func:`detail_window`."""
+    if detail_window(result) is None:
+        return FIGURES
+    names = []
+    for name in FIGURES:
+        names += [name] + [d for d in DETAIL_FIGURES if d == f"{name}_detail"]
+    return tuple(names)
+
+
+def _extent(name: str, result):
+    return detail_window(result) if name in DETAIL_FIGURES else _padded_extent(result)
 
 
 def figure_size(name: str, result) -> tuple[float, float]:
     """Width and height [in] that figure ``name`` will have, without drawing it."""
     if name == "surface_temperature":
         return PAGE_WIDTH, PROFILE_HEIGHT
-    return PAGE_WIDTH, _section_layout(result)[4]
+    return PAGE_WIDTH, _section_layout(_extent(name, result), _legend_rows(name, result))[4]
 
 
-def _new_figure(result, title: str, subtitle: str):
-    """A figure sized to the section's aspect, with the house header.
+#: Header [in from the top]: title and subtitle baselines' tops, the rule under them.
+TITLE_AT, SUBTITLE_AT, RULE_AT = 0.12, 0.33, 0.5
 
-    Returns the figure, the plot axes and the panel box (left, bottom, width,
-    height) [figure fraction] for the legend or colour bar.
+
+def _header(fig, title: str, subtitle: str) -> None:
+    """The house header: bold title, muted subtitle, a thin rule under them.
+
+    Each line is set smaller when it would not fit the figure's width, and
+    shortened with an ellipsis when even 6 pt would not.
     """
-    aspect, side, plot_w, plot_h, fig_h = _section_layout(result)
+    fig_h = fig.get_figheight()
+    left = 0.12 / PAGE_WIDTH
+    for text, at, size, style in ((title, TITLE_AT, 9.5, dict(fontweight="bold", color=INK)),
+                                  (subtitle, SUBTITLE_AT, 7.5, dict(color=MUTED))):
+        artist = fig.text(left, 1 - at / fig_h, text, ha="left", va="top", fontsize=size,
+                          parse_math=False, **style)
+        fit_text(artist, PAGE_WIDTH - 0.24)
+    fig.add_artist(Line2D([left, 1 - left], [1 - RULE_AT / fig_h] * 2, color=INTERIOR,
+                          lw=0.8))
+
+
+def text_width(artist) -> float:
+    """Width of a one-line text artist [in], from the font's own outlines.
+
+    Measured without hinting, as the vector formats draw it; Agg at 300 dpi
+    comes within a fraction of a percent of it (at screen resolution the
+    hinted width is some 5 % less, which is why it is not measured there).
+    """
+    from matplotlib.textpath import text_to_path
+    width, _, _ = text_to_path.get_text_width_height_descent(
+        artist.get_text(), artist.get_fontproperties(), ismath=False)
+    return width / 72.0
+
+
+def fit_text(artist, width: float, smallest: float = 6.0) -> None:
+    """Shrink a one-line text to ``width`` [in], down to ``smallest`` [pt], then
+    shorten it with an ellipsis until it fits."""
+    have = text_width(artist)
+    if have <= width:
+        return
+    artist.set_fontsize(max(smallest, artist.get_fontsize() * width / have * 0.98))
+    text = artist.get_text()
+    while text_width(artist) > width and len(text) > 1:
+        text = text[:-2].rstrip() + "…"
+        artist.set_text(text)
+
+
+def _new_figure(result, title: str, subtitle: str, extent, legend_rows=0):
+    """A figure sized to the view's aspect, with the house header.
+
+    Returns the figure, the plot axes and the aspect; the panel box (left,
+    bottom, width, height) [figure fraction] for the legend or colour bar is
+    kept on the figure.
+    """
+    aspect, side, plot_w, plot_h, fig_h = _section_layout(extent, legend_rows)
     fig = plt.figure(figsize=(PAGE_WIDTH, fig_h))
-    bottom = MARGIN_BOTTOM + (0.0 if side else BELOW_PANEL)
+    below = _below_panel(legend_rows)
+    bottom = MARGIN_BOTTOM + (0.0 if side else below)
     ax = fig.add_axes([MARGIN_LEFT / PAGE_WIDTH, bottom / fig_h,
                        plot_w / PAGE_WIDTH, plot_h / fig_h])
-    fig.text(0.12 / PAGE_WIDTH, 1 - 0.12 / fig_h, title, ha="left", va="top",
-             fontsize=9.5, fontweight="bold", color=INK)
-    fig.text(0.12 / PAGE_WIDTH, 1 - 0.33 / fig_h, subtitle, ha="left", va="top",
-             fontsize=7.5, color=MUTED)
-    # a thin rule under the header: the house mark
-    fig.add_artist(Line2D([0.12 / PAGE_WIDTH, 1 - 0.12 / PAGE_WIDTH],
-                          [1 - 0.5 / fig_h] * 2, color=INTERIOR, lw=0.8))
+    _header(fig, title, subtitle)
     if side:
-        left = (MARGIN_LEFT + plot_w + 0.2) / PAGE_WIDTH
+        # at the page's right edge: beside a narrow plot, the room between is
+        # free for the θsi,min label
+        left = (PAGE_WIDTH - MARGIN_RIGHT - SIDE_PANEL + 0.2) / PAGE_WIDTH
         panel = (left, bottom / fig_h, 1 - left - MARGIN_RIGHT / PAGE_WIDTH, plot_h / fig_h)
     else:
         panel = (MARGIN_LEFT / PAGE_WIDTH, 0.1 / fig_h, plot_w / PAGE_WIDTH,
-                 (BELOW_PANEL - 0.25) / fig_h)
+                 (below - 0.25) / fig_h)
     fig._bridgecalc_panel = panel
     return fig, ax, aspect
 
 
-def _frame(ax, result):
-    """Equal scaling, axes in the model's length unit, limits with a margin."""
+def _frame(ax, result, extent):
+    """Equal scaling, axes in the model's length unit, limits of the view."""
     model = result.model
-    lo, hi = _padded_extent(result)
+    lo, hi = extent
     ax.set_xlim(lo[0], hi[0])
     ax.set_ylim(lo[1], hi[1])
     ax.set_aspect("equal", adjustable="box", anchor="SW")
+    ax.apply_aspect()          # the axes' final box, for placing labels in it
     ax.set_xlabel(f"x [{model.length_unit}]")
     ax.set_ylabel(f"y [{model.length_unit}]")
     ax.tick_params(length=3, width=0.5)
-    _scale_bar(ax, result)
+    _scale_bar(ax, result, extent)
 
 
 def nice_length(raw: float) -> float:
@@ -218,27 +352,27 @@ def nice_step(raw: float) -> float:
     return float(10.0 ** (exponent + 1))
 
 
-def _emptiest_corner(result) -> str:
-    """The plot corner with the fewest triangle centroids, for the scale bar."""
+def _emptiest_corner(result, extent) -> str:
+    """The corner of the view with the fewest triangle centroids, for the scale bar."""
     xy = result.mesh.nodes / result.model.metres_per_unit
     centroids = xy[result.mesh.triangles].mean(axis=1)
-    lo, hi = xy.min(axis=0), xy.max(axis=0)
+    lo, hi = extent
     span = np.maximum(hi - lo, 1e-12)
     rel = (centroids - lo) / span
     corners = {"lower left": (rel[:, 0] < 0.35) & (rel[:, 1] < 0.15),
                "lower right": (rel[:, 0] > 0.65) & (rel[:, 1] < 0.15),
                "upper left": (rel[:, 0] < 0.35) & (rel[:, 1] > 0.85),
                "upper right": (rel[:, 0] > 0.65) & (rel[:, 1] > 0.85)}
-    return min(corners, key=lambda k: (int(corners[k].sum()), k))
+    inside = (rel >= 0).all(axis=1) & (rel <= 1).all(axis=1)
+    return min(corners, key=lambda k: (int((corners[k] & inside).sum()), k))
 
 
-def _scale_bar(ax, result):
+def _scale_bar(ax, result, extent):
     model = result.model
-    xy = result.mesh.nodes / model.metres_per_unit
-    width = float(np.ptp(xy[:, 0]))
-    length = nice_length(width / 4)
+    lo, hi = extent
+    length = nice_length(float(hi[0] - lo[0]) / 4)
     bar = AnchoredSizeBar(ax.transData, length, f"{length:g} {model.length_unit}",
-                          _emptiest_corner(result), pad=0.4, borderpad=0.6, sep=3,
+                          _emptiest_corner(result, extent), pad=0.4, borderpad=0.6, sep=3,
                           color=INK, frameon=True, size_vertical=0,
                           fontproperties={"size": 7})
     bar.patch.set(facecolor="white", alpha=0.85, edgecolor="none")
@@ -407,21 +541,27 @@ def _surface_label_points(result):
 
 # -- the five figures -------------------------------------------------------------
 
-def materials_figure(result):
+def materials_figure(result, detail=False):
     """Material map: regions in painter's order, legend with names and λ.
 
     Parameters
     ----------
     result : bridgecalc.pipeline.Result
+    detail : bool
+        Draw the :func:`detail_window` only (there must be one).
 
     Returns
     -------
     matplotlib.figure.Figure
     """
     model = result.model
+    extent = _view(result, detail)
     with plt.rc_context(STYLE):
-        fig, ax, aspect = _new_figure(result, model.name or "junction",
-                                      "Materials; lighter fill = lower conductivity λ")
+        fig, ax, aspect = _new_figure(
+            result, model.name or "junction",
+            ("Materials at the junction (detail); " if detail else "Materials; ")
+            + "lighter fill = lower conductivity λ", extent,
+            _legend_rows("materials", result))
         style = material_colours(model)
         for region in model.regions:
             s = style[region.material]
@@ -436,9 +576,36 @@ def materials_figure(result):
                          hatch=style[n]["hatch"], linewidth=0.4,
                          label=f"{n}\nλ = {model.materials[n].conductivity:g} W/(m·K)")
                    for n in names]
-        _frame(ax, result)
+        _frame(ax, result, extent)
+        if not detail:
+            _outline_detail(ax, result)
         _legend(fig, ax, handles, aspect, title="material")
     return fig
+
+
+def _view(result, detail: bool):
+    """Plot limits [length_unit]: the detail window, or the whole section."""
+    if not detail:
+        return _padded_extent(result)
+    window = detail_window(result)
+    if window is None:
+        raise ValueError("this section has no detail window (figures.detail_window)")
+    return window
+
+
+def _outline_detail(ax, result):
+    """The detail window as a dashed box on a view of the whole section."""
+    window = detail_window(result)
+    if window is None:
+        return
+    (x0, y0), (x1, y1) = window
+    ax.add_artist(Polygon([(x0, y0), (x1, y0), (x1, y1), (x0, y1)], closed=True, fill=False,
+                          edgecolor=INK, linewidth=0.8, linestyle=(0, (3, 2)), zorder=6,
+                          gid="detail-window"))
+    ax.annotate("detail", (x1, y1), xytext=(2, 2), textcoords="offset points",
+                ha="left", va="bottom", fontsize=6.5, color=INK, zorder=6,
+                annotation_clip=False,
+                bbox=dict(boxstyle="square,pad=0.15", fc="white", ec="none", alpha=0.85))
 
 
 def _legend(fig, ax, handles, aspect, title=None):
@@ -467,11 +634,13 @@ def mesh_figure(result):
     """
     model, mesh = result.model, result.mesh
     xy = mesh.nodes / model.metres_per_unit
+    extent = _padded_extent(result)
     with plt.rc_context(STYLE):
         fig, ax, aspect = _new_figure(
             result, model.name or "junction",
             f"Mesh: {mesh.node_count} nodes, {mesh.triangle_count} triangles, "
-            f"{result.element} elements; outline by boundary condition")
+            f"{result.element} elements; outline by boundary condition", extent,
+            _legend_rows("mesh", result))
         style = material_colours(model)
         for region in model.regions:
             ax.add_artist(Polygon(np.asarray(region.vertices, float), closed=True,
@@ -494,12 +663,12 @@ def mesh_figure(result):
             ax.annotate(f"S{j + 1}", p, fontsize=6.5, ha="center", va="center",
                         color=INK, gid=f"surface-label-S{j + 1}",
                         bbox=dict(boxstyle="round,pad=0.2", fc="white", ec=MUTED, lw=0.4))
-        _frame(ax, result)
+        _frame(ax, result, extent)
         _legend(fig, ax, handles, aspect, title="outline")
     return fig
 
 
-def temperature_figure(result, isotherm_step=None):
+def temperature_figure(result, isotherm_step=None, detail=False):
     """Temperature field of the surface-temperature case with labelled isotherms.
 
     Parameters
@@ -508,6 +677,8 @@ def temperature_figure(result, isotherm_step=None):
     isotherm_step : float, optional
         Temperature step between isotherms [K]; default 1, 2 or 5 × 10ⁿ near
         (θi − θe)/10.
+    detail : bool
+        Draw the :func:`detail_window` only (there must be one).
 
     Returns
     -------
@@ -521,16 +692,19 @@ def temperature_figure(result, isotherm_step=None):
     theta_i, theta_e = design_temperatures(model)
     step = isotherm_step or default_isotherm_step(model)
     lo, hi = float(theta.min()), float(theta.max())
+    extent = _view(result, detail)
     with plt.rc_context(STYLE):
         fig, ax, aspect = _new_figure(
             result, model.name or "junction",
-            f"Temperature, surface-temperature case (θi = {theta_i:g} °C, θe = {theta_e:g} °C); "
-            f"isotherms every {step:g} K")
+            ("Temperature at the junction (detail)" if detail else "Temperature")
+            + f", surface-temperature case (θi = {theta_i:g} °C, θe = {theta_e:g} °C); "
+            f"isotherms every {step:g} K", extent)
+        _frame(ax, result, extent)
         vmin = min(theta_i, theta_e, lo)
         vmax = max(theta_i, theta_e, hi)
         # Linear interpolation in each triangle: for P1 it is the computed
         # field itself, sampled at the image's pixels.
-        gx, gy, px, py, cells = _pixel_grid(fig, ax, result, triangulation)
+        gx, gy, px, py, cells = _pixel_grid(fig, ax, extent, triangulation)
         values = np.full(px.shape, np.nan)
         inside = cells >= 0
         values[inside] = _linear_in_cells(xy, mesh.triangles, theta, cells[inside],
@@ -542,19 +716,133 @@ def temperature_figure(result, isotherm_step=None):
         first = math.ceil(lo / step - 1e-9) * step
         lines = np.arange(first, hi + 1e-9 * step, step)
         lines = lines[(lines > lo) & (lines < hi)]
-        if len(lines):
-            iso = ax.tricontour(triangulation, theta, levels=lines, colors=INK,
-                                linewidths=0.55)
-            ax.clabel(iso, fmt=lambda v: f"{v:g}", fontsize=6.5, inline=True,
-                      inline_spacing=2)
         names, codes = _material_codes(result)
         ax.add_artist(segments_path(xy[material_edges(mesh, codes)], edgecolor="white",
                                    linewidth=0.6, alpha=0.7))
-        _mark_minimum(ax, result)
-        _frame(ax, result)
+        marker = _mark_minimum(ax, result, extent, (gx, gy, cells))
+        if len(lines):
+            iso = ax.tricontour(triangulation, theta, levels=lines, colors=INK,
+                                linewidths=0.55)
+            label_isotherms(ax, iso, filled, avoid=[] if marker is None else [marker])
+        if not detail:
+            _outline_detail(ax, result)
         _colour_bar(fig, ax, filled, aspect, "temperature θ [°C]",
                     ticks=_bar_ticks(vmin, vmax, step))
     return fig
+
+
+#: Isotherm labels [pt]: font size, and the clear space kept around each.
+ISOTHERM_LABEL_SIZE, ISOTHERM_LABEL_CLEARANCE = 6.5, 3.0
+
+
+def label_isotherms(ax, contours, field, avoid=()):
+    """Label each isotherm once, clear of the others where the plot allows.
+
+    A label follows its line (matplotlib turns it along it), so across the
+    line it needs half its height clear of other isotherms. Candidate places
+    are taken along the middle of every line inside the plot; each label is
+    taken as a disc of its width, whatever its turn, and must stay inside
+    the plot, off labels already placed and off the boxes in ``avoid``.
+
+    First every level that has a place with that much room gets the one
+    with the most room (up to four times the least; then the one nearest the
+    middle of its line). Where isotherms crowd, as in insulation, there is
+    no such place; those levels get the least crowded place left, on a box
+    of the field's own colour at that temperature, which hides the
+    neighbouring lines under the label only. A level that finds no place at
+    all stays unlabelled; the colour bar's ticks are the isotherm levels.
+
+    Parameters
+    ----------
+    ax : matplotlib.axes.Axes
+        With its limits and aspect final.
+    contours : matplotlib.contour.ContourSet
+    field : matplotlib.cm.ScalarMappable
+        Colour map and norm of the field under the isotherms.
+    avoid : list of matplotlib.transforms.Bbox
+        Display boxes to keep labels off (the θsi,min label, say).
+
+    Returns
+    -------
+    list of float
+        The levels that got a label.
+    """
+    from scipy.spatial import cKDTree
+    fig = ax.get_figure()
+    box = ax.get_window_extent()
+    per_pt = fig.dpi / 72.0
+    clear = ISOTHERM_LABEL_CLEARANCE * per_pt
+    across = ISOTHERM_LABEL_SIZE * per_pt / 2 + clear
+    text = lambda v: f"{v:g}"                      # noqa: E731
+    lines = []               # per level: points a pixel apart along each piece [display]
+    for level, path in zip(contours.levels, contours.get_paths()):
+        pieces = path.to_polygons(closed_only=False) if len(path.vertices) else []
+        lines.append((float(level), [_densify(ax.transData.transform(np.asarray(q, float)),
+                                              fig.dpi / 100)
+                                     for q in pieces if len(q) >= 2]))
+    trees = [cKDTree(np.concatenate(pts)) if pts else None for _, pts in lines]
+    candidates = {}
+    for k, (level, pieces) in enumerate(lines):
+        if not pieces:
+            continue
+        # up to 41 points along the middle 80 % of each piece; centrality is
+        # 1 at a piece's middle and 0.2 at the ends of that stretch
+        cand, central = [], []
+        for q in pieces:
+            pick = np.unique((np.linspace(0.1, 0.9, 41) * (len(q) - 1)).round().astype(int))
+            cand.append(q[pick])
+            central.append(1 - np.abs(2 * pick / max(len(q) - 1, 1) - 1))
+        cand = np.concatenate(cand)
+        room = np.full(len(cand), np.inf)
+        for j, tree in enumerate(trees):
+            if j != k and tree is not None:
+                room = np.minimum(room, tree.query(cand)[0])
+        radius = 0.62 * len(text(level)) * ISOTHERM_LABEL_SIZE * per_pt / 2 + clear
+        candidates[k] = (cand, np.concatenate(central), room, radius)
+    discs = []                                    # (x, y, radius) of placed labels
+    boxes = [(b.x0, b.y0, b.x1, b.y1) for b in avoid]
+    places = {}
+    for crowded in (False, True):
+        for k, (cand, central, room, radius) in candidates.items():
+            if k in places:
+                continue
+            ok = ((cand[:, 0] >= box.x0 + radius) & (cand[:, 0] <= box.x1 - radius)
+                  & (cand[:, 1] >= box.y0 + radius) & (cand[:, 1] <= box.y1 - radius))
+            if not crowded:
+                ok &= room >= across
+            for x, y, r in discs:
+                ok &= np.hypot(cand[:, 0] - x, cand[:, 1] - y) >= r + radius
+            for x0, y0, x1, y1 in boxes:
+                nx = np.clip(cand[:, 0], x0, x1)
+                ny = np.clip(cand[:, 1], y0, y1)
+                ok &= np.hypot(cand[:, 0] - nx, cand[:, 1] - ny) >= radius
+            if not ok.any():
+                continue
+            score = np.minimum(room, 4 * across) + 1e-3 * across * central
+            x, y = cand[int(np.flatnonzero(ok)[np.argmax(score[ok])])]
+            discs.append((x, y, radius))
+            places[k] = ax.transData.inverted().transform((x, y))
+    if not places:
+        return []
+    order = sorted(places)
+    labelled = [lines[k][0] for k in order]
+    contours.clabel(levels=labelled, manual=[places[k] for k in order], fmt=text,
+                    fontsize=ISOTHERM_LABEL_SIZE, inline=True, inline_spacing=2)
+    for label, level in zip(contours.labelTexts, labelled):     # added in this order
+        fill = field.cmap(field.norm(level))
+        light = 0.2126 * fill[0] + 0.7152 * fill[1] + 0.0722 * fill[2] > 0.45
+        label.set_color(INK if light else "white")
+        label.set_bbox(dict(boxstyle="square,pad=0.12", fc=fill, ec="none"))
+    return labelled
+
+
+def _densify(points, spacing):
+    """A polyline with points inserted so that none lies more than ``spacing`` apart."""
+    step = np.diff(points, axis=0)
+    count = np.maximum(1, np.ceil(np.hypot(step[:, 0], step[:, 1]) / spacing)).astype(int)
+    segment = np.repeat(np.arange(len(step)), count)
+    t = (np.arange(count.sum()) - np.repeat(np.cumsum(count) - count, count)) / count[segment]
+    return np.concatenate([points[segment] + step[segment] * t[:, None], points[-1:]])
 
 
 #: Pixels per inch of plot for the sampled field images (shown at 300 dpi in PNG).
@@ -596,18 +884,20 @@ def cells_on_grid(xy, triangles, gx, gy) -> np.ndarray:
     count = cx * cy
     if count.sum() == 0:
         return cells
-    tri = np.repeat(np.arange(len(triangles)), count)
+    hit = np.flatnonzero(count)                   # triangles over at least one point
+    count = count[hit]
+    tri = np.repeat(np.arange(len(hit)), count)
     offset = np.arange(count.sum()) - np.repeat(np.cumsum(count) - count, count)
-    width = cx[tri]
-    i = ix0[tri] + offset % width
-    j = iy0[tri] + offset // width
+    width = cx[hit][tri]
+    i = ix0[hit][tri] + offset % width
+    j = iy0[hit][tri] + offset // width
     x, y = gx[i], gy[j]
-    maps = barycentric_maps(xy, triangles)[tri]                 # (S, 2, 3)
+    maps = barycentric_maps(xy, triangles[hit])[tri]           # (S, 2, 3)
     l1 = maps[:, 0, 0] * x + maps[:, 0, 1] * y + maps[:, 0, 2]
     l2 = maps[:, 1, 0] * x + maps[:, 1, 1] * y + maps[:, 1, 2]
     tol = 1e-9
     inside = (l1 >= -tol) & (l2 >= -tol) & (l1 + l2 <= 1 + tol)
-    cells[j[inside], i[inside]] = tri[inside]
+    cells[j[inside], i[inside]] = hit[tri[inside]]
     return cells
 
 
@@ -653,9 +943,9 @@ def _linear_in_cells(xy, triangles, nodal, cells, x, y) -> np.ndarray:
     return g[:, 0] * x + g[:, 1] * y + g[:, 2]
 
 
-def _pixel_grid(fig, ax, result, triangulation):
+def _pixel_grid(fig, ax, extent, triangulation):
     """Pixel centres over the plot [length_unit] and the triangle under each (-1: none)."""
-    lo, hi = _padded_extent(result)
+    lo, hi = extent
     box = ax.get_position()
     width_in = box.width * fig.get_figwidth()
     nx = max(int(width_in * FIELD_PPI), 50)
@@ -710,41 +1000,84 @@ def _bar_ticks(lo, hi, step):
     return ticks
 
 
-def _mark_minimum(ax, result):
-    """Ring at θsi,min, with its label placed where it covers the least of the solid."""
-    model, mesh = result.model, result.mesh
+def _mark_minimum(ax, result, extent, grid):
+    """Ring at θsi,min, and its label where it covers the least of the solid.
+
+    The label is tried in the four diagonal directions at two distances; a
+    place fully inside the plot is preferred, then the one over the least
+    solid. Nothing is drawn when θsi,min lies outside the view.
+
+    Parameters
+    ----------
+    grid : (ndarray, ndarray, ndarray)
+        Pixel centres gx, gy [length_unit] over the view and the triangle
+        under each (:func:`_pixel_grid`), for how much solid a place covers.
+
+    Returns
+    -------
+    matplotlib.transforms.Bbox or None
+        The label's box [display units], for other labels to keep off.
+    """
+    from matplotlib.transforms import Bbox
+    model = result.model
     case = result.surface_temperature_case
     x, y = case.theta_si_min_at
+    lo, hi = extent
+    if not (lo[0] <= x <= hi[0] and lo[1] <= y <= hi[1]):
+        return None
     ax.plot([x], [y], marker="o", ms=9, mfc="white", mec=INK, mew=1.6, zorder=5,
             gid="theta-si-min-marker", clip_on=False)
     ax.plot([x], [y], marker="+", ms=9, color=INK, mew=1.0, zorder=6, clip_on=False)
-    xy = mesh.nodes / model.metres_per_unit
-    lo, hi = _padded_extent(result)
-    reach = 0.12 * float((hi - lo).max())
-    # only triangles near the candidate boxes can cover them
-    corners = xy[mesh.triangles]
-    near = mesh.triangles[(corners[:, :, 0].max(1) >= x - 2.3 * reach)
-                          & (corners[:, :, 0].min(1) <= x + 2.3 * reach)
-                          & (corners[:, :, 1].max(1) >= y - reach)
-                          & (corners[:, :, 1].min(1) <= y + reach)]
+    value = f"{case.theta_si_min:.2f} °C"
+    where = f"at {printed_position(model, case.theta_si_min_at)} {model.length_unit}"
+    label = ax.annotate(
+        "", (x, y), xytext=(16, 16), textcoords="offset points", fontsize=7, ha="left",
+        va="bottom", zorder=7, gid="theta-si-min-label",
+        bbox=dict(boxstyle="square,pad=0.3", fc="white", ec=INK, lw=0.6),
+        arrowprops=dict(arrowstyle="-", color=INK, lw=0.7))
+    fig = ax.get_figure()
+    renderer = fig.canvas.get_renderer()
+    px, py = ax.transData.transform((x, y))
+    # the plot, and the free room right of it up to the side panel
+    plot = ax.get_window_extent()
+    panel_left = fig._bridgecalc_panel[0] * fig.bbox.width - 0.1 * fig.dpi
+    plot = Bbox.from_extents(plot.x0, plot.y0, max(plot.x1, panel_left), plot.y1)
+    to_data = ax.transData.inverted()
+    gx, gy, cells = grid
     best = None
-    for dx, dy in ((1, 1), (-1, 1), (1, -1), (-1, -1)):
-        # sample the box the label would take, in data units
-        gx = np.sort(x + dx * reach * np.linspace(0.3, 2.2, 6))
-        gy = np.sort(y + dy * reach * np.linspace(0.3, 0.9, 3))
-        px, py = np.meshgrid(gx, gy)
-        inside_axes = ((px > lo[0]) & (px < hi[0]) & (py > lo[1]) & (py < hi[1])).mean()
-        covered = (cells_on_grid(xy, near, gx, gy) >= 0).mean()
-        score = (covered - 2.0 * inside_axes, -dy, -dx)
-        if best is None or score < best[0]:
-            best = (score, dx, dy)
-    _, dx, dy = best
-    ax.annotate(f"θsi,min = {case.theta_si_min:.2f} °C\nat ({x:g}, {y:g}) {model.length_unit}",
-                (x, y), xytext=(dx * 16, dy * 16), textcoords="offset points", fontsize=7,
-                ha="left" if dx > 0 else "right", va="bottom" if dy > 0 else "top",
-                zorder=7, gid="theta-si-min-label",
-                bbox=dict(boxstyle="square,pad=0.3", fc="white", ec=INK, lw=0.6),
-                arrowprops=dict(arrowstyle="-", color=INK, lw=0.7))
+    # shorter wordings for a narrow plot; the report gives the position anyway
+    for wording in (f"θsi,min = {value}\n{where}", f"θsi,min = {value}", f"θsi,min\n{value}"):
+        label.set_text(wording)
+        # the text's box, its padding, and 6 % for the finer hinting at 300 dpi
+        text = Text.get_window_extent(label, renderer)
+        pad = 2 * 0.3 * 7 * fig.dpi / 72
+        w, h = 1.06 * text.width + pad, text.height + pad
+        for distance in (16, 40):
+            for dx, dy in ((1, 1), (-1, 1), (1, -1), (-1, -1)):
+                off = distance * fig.dpi / 72
+                x0 = px + dx * off - (w if dx < 0 else 0)
+                y0 = py + dy * off - (h if dy < 0 else 0)
+                box = Bbox.from_bounds(x0, y0, w, h)
+                inside = (box.x0 >= plot.x0 and box.x1 <= plot.x1
+                          and box.y0 >= plot.y0 and box.y1 <= plot.y1)
+                # the share of the box's pixels over the solid (outside the view: none)
+                (ax0, ay0), (ax1, ay1) = to_data.transform([(box.x0, box.y0),
+                                                            (box.x1, box.y1)])
+                under = cells[slice(*np.searchsorted(gy, (ay0, ay1))),
+                              slice(*np.searchsorted(gx, (ax0, ax1)))]
+                covered = float((under >= 0).sum()) / max(
+                    1.0, (ax1 - ax0) / (gx[1] - gx[0]) * (ay1 - ay0) / (gy[1] - gy[0]))
+                score = (not inside, round(covered, 6), distance, -dy, -dx)
+                if best is None or score < best[0]:
+                    best = (score, dx, dy, distance, box, wording)
+        if not best[0][0]:          # a place inside the plot: this wording fits
+            break
+    label.set_text(best[5])
+    _, dx, dy, distance, box, _ = best
+    label.xyann = (dx * distance, dy * distance)
+    label.set_horizontalalignment("left" if dx > 0 else "right")
+    label.set_verticalalignment("bottom" if dy > 0 else "top")
+    return box
 
 
 def _colour_bar(fig, ax, mappable, aspect, label, ticks=None):
@@ -793,12 +1126,14 @@ def heat_flux_figure(result):
     floor = min(floor, top * 0.5) if top > 0 else 1e-12
     top = max(top, floor * 10)
     triangulation = mtri.Triangulation(xy[:, 0], xy[:, 1], mesh.triangles)
+    extent = _padded_extent(result)
     with plt.rc_context(STYLE):
         fig, ax, aspect = _new_figure(
             result, model.name or "junction",
-            "Heat-flux density |q| = |−λ∇θ|, heat-flow case; arrows show direction only")
+            "Heat-flux density |q| = |−λ∇θ|, heat-flow case; arrows show direction only",
+            extent)
         # |q| is constant in each triangle: each pixel shows its triangle's value
-        gx, gy, px, py, cells = _pixel_grid(fig, ax, result, triangulation)
+        gx, gy, px, py, cells = _pixel_grid(fig, ax, extent, triangulation)
         values = np.full(px.shape, np.nan)
         values[cells >= 0] = np.clip(magnitude[cells[cells >= 0]], floor, top)
         shade = _field_image(ax, gx, gy, values, cmap=HEAT_FLUX_CMAP,
@@ -808,7 +1143,7 @@ def heat_flux_figure(result):
         ax.add_artist(segments_path(xy[material_edges(mesh, codes)], edgecolor="white",
                                    linewidth=0.5, alpha=0.6))
         _flow_arrows(ax, triangulation, xy, q, magnitude)
-        _frame(ax, result)
+        _frame(ax, result, extent)
         bar = _colour_bar(fig, ax, shade, aspect, "heat-flux density |q| [W/m²], log scale")
         # plain numbers (0.1, 1, 10), not powers of ten in mathtext
         bar.ax.yaxis.set_major_formatter(FuncFormatter(lambda v, _: f"{v:g}"))
@@ -864,17 +1199,12 @@ def surface_temperature_figure(result, f_rsi_min=None):
     with plt.rc_context({**STYLE, "axes.facecolor": PAPER}):
         fig_h = PROFILE_HEIGHT
         fig = plt.figure(figsize=(PAGE_WIDTH, fig_h))
-        ax = fig.add_axes([MARGIN_LEFT / PAGE_WIDTH, 1.35 / fig_h,
+        ax = fig.add_axes([MARGIN_LEFT / PAGE_WIDTH, PROFILE_BOTTOM / fig_h,
                            (PAGE_WIDTH - MARGIN_LEFT - 0.75) / PAGE_WIDTH,
-                           (fig_h - 1.35 - MARGIN_TOP - 0.15) / fig_h])
-        fig.text(0.12 / PAGE_WIDTH, 1 - 0.12 / fig_h, model.name or "junction", ha="left",
-                 va="top", fontsize=9.5, fontweight="bold", color=INK)
-        fig.text(0.12 / PAGE_WIDTH, 1 - 0.33 / fig_h,
-                 "Interior surface temperature (surface-temperature case) along each run of "
-                 "interior surface; breaks at cut-off planes", ha="left", va="top",
-                 fontsize=7.5, color=MUTED)
-        fig.add_artist(Line2D([0.12 / PAGE_WIDTH, 1 - 0.12 / PAGE_WIDTH],
-                              [1 - 0.5 / fig_h] * 2, color=INTERIOR, lw=0.8))
+                           (fig_h - PROFILE_BOTTOM - MARGIN_TOP - 0.15) / fig_h])
+        _header(fig, model.name or "junction",
+                "Interior surface temperature along the interior surface, surface-temperature "
+                "case; gaps where it meets a cut-off plane")
         offset = 0.0
         lowest = case.theta_si_min
         for k, p in enumerate(profiles):
@@ -920,8 +1250,9 @@ def surface_temperature_figure(result, f_rsi_min=None):
         ax.spines["right"].set_visible(True)
         ax.grid(axis="y", color=VOID, lw=0.6)
         ax.tick_params(length=3, width=0.5)
-        leg = fig.legend(loc="lower left", bbox_to_anchor=(MARGIN_LEFT / PAGE_WIDTH,
-                                                            0.08 / fig_h),
+        # the legend right under the axis title
+        leg = fig.legend(loc="upper left", bbox_to_anchor=(MARGIN_LEFT / PAGE_WIDTH,
+                                                            (PROFILE_BOTTOM - 0.5) / fig_h),
                          ncols=1, borderaxespad=0.0)
         leg.set_gid("legend")
     return fig
@@ -951,13 +1282,16 @@ BUILDERS = {
     "materials": lambda r, o: materials_figure(r),
     "mesh": lambda r, o: mesh_figure(r),
     "temperature": lambda r, o: temperature_figure(r, o.get("isotherm_step")),
+    "materials_detail": lambda r, o: materials_figure(r, detail=True),
+    "temperature_detail": lambda r, o: temperature_figure(r, o.get("isotherm_step"),
+                                                          detail=True),
     "heat_flux": lambda r, o: heat_flux_figure(r),
     "surface_temperature": lambda r, o: surface_temperature_figure(r, o.get("f_rsi_min")),
 }
 
 
 def build_figure(name: str, result, **options):
-    """One of :data:`FIGURES` as a Figure (``isotherm_step``, ``f_rsi_min`` apply)."""
+    """One of :func:`figure_names` as a Figure (``isotherm_step``, ``f_rsi_min`` apply)."""
     return BUILDERS[name](result, options)
 
 
@@ -1085,7 +1419,7 @@ def write_figures(result, folder, isotherm_step=None, f_rsi_min=None,
     """
     folder = Path(folder)
     out = {}
-    for name in FIGURES:
+    for name in figure_names(result):
         fig = build_figure(name, result, isotherm_step=isotherm_step, f_rsi_min=f_rsi_min)
         try:
             out[name] = save(fig, folder / name, formats, dpi)

@@ -112,7 +112,7 @@ def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=Non
     Returns
     -------
     dict of str to list of Path
-        Files per figure name, in :data:`bridgecalc.figures.FIGURES` order,
+        Files per figure name, in :func:`bridgecalc.figures.figure_names` order,
         each in :data:`bridgecalc.figures.FORMATS` order.
     """
     global _JOB
@@ -121,11 +121,12 @@ def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=Non
     if workers is None:
         workers = default_workers()
     _JOB = (result, str(folder), options)
-    written: dict = {n: [] for n in figures.FIGURES}
+    names = figures.figure_names(result)
+    written: dict = {n: [] for n in names}
     try:
         if workers > 1 and _can_fork():
             tasks = [t for t in DRAWING_TASKS if t[0] in written]
-            tasks += [(n, None) for n in figures.FIGURES if n not in {t[0] for t in tasks}]
+            tasks += [(n, None) for n in names if n not in {t[0] for t in tasks}]
             figures.prepare()                 # once here, not once per worker
             context = multiprocessing.get_context("fork")
             with ProcessPoolExecutor(max_workers=workers, mp_context=context) as pool:
@@ -134,7 +135,7 @@ def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=Non
                     name, paths = future.result()
                     written[name] += paths
         else:
-            for name in figures.FIGURES:
+            for name in names:
                 written[name] += _draw(name)[1]
     finally:
         _JOB = None
@@ -257,7 +258,7 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
         try:
             other = helper.submit(_other_files)
             from . import exports, figures, report
-            names = list(figures.FIGURES)
+            names = list(figures.figure_names(result))
             pngs = {n: staging / f"{n}.png" for n in names}
             sizes = {n: figures.figure_size(n, result) for n in names}
             files = [RESULTS_FILE, exports.CSV_FILE, exports.VTU_FILE, REPORT_FILE,

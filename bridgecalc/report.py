@@ -22,7 +22,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from . import __version__
-from .results import CAUTION
+from .results import CAUTION, printed_position
 
 # -- blocks ---------------------------------------------------------------------
 
@@ -86,6 +86,10 @@ FIGURE_CAPTIONS = {
             "cut-off or symmetry planes.",
     "temperature": "Temperatures of the surface-temperature case (surface resistances for "
                    "surface temperature) with labelled isotherms; the ring marks θsi,min.",
+    "materials_detail": "Materials at the junction: a close view of the figure before, whose "
+                        "dashed box marks this window.",
+    "temperature_detail": "Temperatures at the junction: a close view of the figure before, "
+                          "whose dashed box marks this window; isotherms and θsi,min as there.",
     "heat_flux": "Heat-flux density |q| = |−λ∇θ| per triangle in the heat-flow case, on a "
                  "log scale; arrows show the direction of heat flow only.",
     "surface_temperature": "Interior surface temperature along every run of interior "
@@ -177,6 +181,20 @@ def _surface_of_minimum(result) -> int | None:
     return int(mesh.boundary_surface[mask][int(np.argmin(dist))])
 
 
+def minimum_at_cut_off(result) -> bool:
+    """True when θsi,min lies where an interior surface meets an adiabatic edge
+    (a cut-off or symmetry plane) of the model: a point of the flanking element."""
+    import numpy as np
+    model, mesh = result.model, result.mesh
+    adiabatic = mesh.boundary_edges[mesh.boundary_surface < 0].ravel()
+    if not len(adiabatic):
+        return False
+    at = np.asarray(result.surface_temperature_case.theta_si_min_at, float)
+    xy = mesh.nodes[adiabatic] / model.metres_per_unit
+    size = float(np.ptp(mesh.nodes, axis=0).max()) / model.metres_per_unit
+    return float(np.linalg.norm(xy - at, axis=1).min()) <= 1e-9 * size
+
+
 def f_rsi_verdict(f_rsi: float, f_rsi_min: float | None) -> str | None:
     """``"meets"``, ``"fails"`` or None without a criterion (fRsi ≥ fRsi,min meets)."""
     if f_rsi_min is None:
@@ -213,7 +231,7 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
     ----------
     result : bridgecalc.pipeline.Result
     figures : dict of str to Path, optional
-        PNG file per figure name (:data:`bridgecalc.figures.FIGURES`).
+        PNG file per figure name (:func:`bridgecalc.figures.figure_names`).
     f_rsi_min : float, optional
         The user's fRsi criterion [-].
     stamp : bridgecalc.stamp.Stamp, optional
@@ -247,8 +265,9 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
     if "psi" in hf:
         key.items.append(("Ψ", _n(hf["psi"]), "W/(m·K)",
                           f"{system} dimensions" if system else "dimension system not stated"))
+    at_text = printed_position(model, st["theta_si_min_at"]).replace("-", "−")
     key.items.append(("θsi,min", _n(st["theta_si_min"], 2), "°C",
-                      f"at {_point(st['theta_si_min_at'])} {unit}"))
+                      f"at {at_text} {unit}"))
     verdict = f_rsi_verdict(st["f_rsi"], f_rsi_min)
     key.items.append(("fRsi", _n(st["f_rsi"], 3), "",
                       "no criterion given" if verdict is None else
@@ -260,12 +279,12 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
         blocks.append(Para(
             f"PASS against the criterion given for this run: fRsi = {_n(st['f_rsi'], 3)} ≥ "
             f"{_g(f_rsi_min)} (θsi,min = {_n(st['theta_si_min'], 2)} °C at "
-            f"{_point(st['theta_si_min_at'])} {unit}{where_text}). The criterion was set by "
+            f"{at_text} {unit}{where_text}). The criterion was set by "
             f"the user; check that it is the one required where the building stands.", "pass"))
     elif verdict == "fails":
         blocks.append(Para(
             f"FAIL against the criterion given for this run: fRsi = {_n(st['f_rsi'], 3)} < "
-            f"{_g(f_rsi_min)}. The interior surface at {_point(st['theta_si_min_at'])} {unit}"
+            f"{_g(f_rsi_min)}. The interior surface at {at_text} {unit}"
             f"{where_text} reaches only {_n(st['theta_si_min'], 2)} °C: under the design "
             f"conditions it is at risk of mould growth or surface condensation. Do not "
             f"accept the detail as it is; revise it or have it assessed by a qualified "
@@ -274,6 +293,15 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
         blocks.append(Para(
             f"No fRsi criterion was given for this run (bridgecalc run --f-rsi-min), so no "
             f"pass or fail is stated. {COMMON_PRACTICE}", "note"))
+    if minimum_at_cut_off(result):
+        blocks.append(Para(
+            f"θsi,min lies at {at_text} {unit}, where the interior surface meets an adiabatic "
+            f"edge of the model (a cut-off or symmetry plane): the coldest interior point is "
+            f"on a flanking element, and the junction itself is warmer (see the interior "
+            f"surface temperature figure). This fRsi is then the flanking element's; check "
+            f"that the cut-off planes lie as far from the junction as ISO 10211 asks (at "
+            f"least 1 m or three times the flanking element's thickness, from memory).",
+            "note"))
     blocks.append(Para(f"Dimension system for Ψ: {system_note}.",
                        "normal" if system else "warn"))
     convergence = data.get("convergence")
@@ -355,7 +383,7 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
     if "psi" in hf:
         rows.append(["Ψ, linear thermal transmittance", _n(hf["psi"]), "W/(m·K)"])
     rows.append(["θsi,min, lowest interior surface temperature", _n(st["theta_si_min"], 2),
-                 f"°C at {_point(st['theta_si_min_at'])} {unit}{where_text}"])
+                 f"°C at {at_text} {unit}{where_text}"])
     rows.append(["fRsi = (θsi,min − θe)/(θi − θe)", _n(st["f_rsi"], 3), "–"])
     if f_rsi_min is not None:
         rows.append(["fRsi criterion given for this run", _g(f_rsi_min),

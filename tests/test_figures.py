@@ -185,3 +185,107 @@ def test_figure_size_is_known_before_drawing(demo):
             assert tuple(fig.get_size_inches()) == pytest.approx(figures.figure_size(name, demo))
         finally:
             figures.plt.close(fig)
+
+
+def test_isotherm_labels_sit_on_their_own_isotherm_and_apart(demo):
+    """Each label's value is the computed temperature where it stands, and no two
+    labels or a label and the plot's edge overlap once drawn.
+
+    Reference: the surface-temperature case's own field, interpolated at the
+    label's place (``TemperatureField.at``), independent of the contouring.
+    """
+    fig = figures.temperature_figure(demo)
+    try:
+        ax = fig.axes[0]
+        contours = [c for c in ax.collections if hasattr(c, "labelTexts")][0]
+        labels = contours.labelTexts
+        step = figures.default_isotherm_step(demo.model)
+        assert len(labels) >= 7            # the demo's insulation crowds 8 isotherms
+        places = np.array([t.get_position() for t in labels]) * demo.model.metres_per_unit
+        at = demo.surface_temperature_case.field.at(places)
+        values = np.array([float(t.get_text()) for t in labels])
+        assert np.all(np.abs(at - values) < 0.05 * step)
+        assert len(set(values)) == len(values)          # one label per isotherm
+        renderer = fig.canvas.get_renderer()
+        fig.draw(renderer)
+        boxes = [t.get_window_extent(renderer) for t in labels]
+        plot = ax.get_window_extent(renderer)
+        for k, a in enumerate(boxes):
+            assert plot.x0 <= a.x0 and a.x1 <= plot.x1 and plot.y0 <= a.y0 and a.y1 <= plot.y1
+            for b in boxes[k + 1:]:
+                assert not a.overlaps(b), (a, b)
+    finally:
+        figures.plt.close(fig)
+
+
+def test_long_titles_are_fitted_to_the_figure(demo):
+    """A title longer than the page is set smaller, then shortened, never cut off."""
+    import dataclasses
+    long_name = "Balcony slab of the north-east stair core, with thermal break, " * 3
+    result = dataclasses.replace(demo, model=dataclasses.replace(demo.model, name=long_name))
+    fig = figures.materials_figure(result)
+    try:
+        fig.savefig(__import__("io").BytesIO(), format="raw", dpi=figures.PNG_DPI)
+        renderer = fig.canvas.get_renderer()
+        width = fig.bbox.width
+        titles = [t for t in fig.texts if t.get_text().startswith("Balcony slab")]
+        assert titles and titles[0].get_text().endswith("…")
+        for t in fig.texts:
+            box = t.get_window_extent(renderer)
+            assert box.x0 >= 0 and box.x1 <= width, t.get_text()
+    finally:
+        figures.plt.close(fig)
+
+
+def test_theta_si_min_label_stays_off_the_colour_bar(geometries):
+    """In the window jamb's narrow plot the θsi,min label still finds room: inside
+    the figure and clear of the colour bar."""
+    result = run(load(geometries / "window_jamb.py"))
+    fig = figures.temperature_figure(result)
+    try:
+        renderer = fig.canvas.get_renderer()
+        fig.draw(renderer)
+        label = _by_gid(fig, "theta-si-min-label")[0]
+        box = label.get_bbox_patch().get_window_extent(renderer)
+        bar = _by_gid(fig, "colour-bar")[0].get_window_extent(renderer)
+        assert not box.overlaps(bar)
+        assert box.x0 >= 0 and box.x1 <= fig.bbox.width
+        assert box.y0 >= 0 and box.y1 <= fig.bbox.height
+    finally:
+        figures.plt.close(fig)
+
+
+def test_a_large_ground_block_gets_a_detail_view(demo, geometries):
+    """ISO 10211's ground block around a ground-floor edge is metres wide (20 m
+    outside and below for an unknown building width, from memory); the junction
+    then gets a close view, the slab edge (all construction) does not."""
+    assert figures.detail_window(demo) is None
+    assert figures.figure_names(demo) == figures.FIGURES
+    result = run(load(geometries / "ground_floor.py"))
+    window = figures.detail_window(result)
+    assert window is not None
+    (x0, y0), (x1, y1) = window
+    # every region corner within 2 m of the wall's inner face at ground level is in it
+    corners = np.concatenate([np.asarray(r.vertices) for r in result.model.regions])
+    near = corners[np.hypot(corners[:, 0], corners[:, 1]) < 2000]
+    assert np.all((near[:, 0] >= x0) & (near[:, 0] <= x1)
+                  & (near[:, 1] >= y0) & (near[:, 1] <= y1))
+    tx, ty = result.surface_temperature_case.theta_si_min_at
+    assert x0 <= tx <= x1 and y0 <= ty <= y1
+    names = figures.figure_names(result)
+    assert names.index("materials_detail") == names.index("materials") + 1
+    assert names.index("temperature_detail") == names.index("temperature") + 1
+    for name in figures.DETAIL_FIGURES:
+        fig = figures.build_figure(name, result)
+        try:
+            ax = fig.axes[0]
+            assert ax.get_xlim() == pytest.approx((x0, x1))
+            assert ax.get_ylim() == pytest.approx((y0, y1))
+            assert tuple(fig.get_size_inches()) == pytest.approx(figures.figure_size(name, result))
+        finally:
+            figures.plt.close(fig)
+    overview = figures.temperature_figure(result)
+    try:
+        assert _by_gid(overview, "detail-window")
+    finally:
+        figures.plt.close(overview)

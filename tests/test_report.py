@@ -66,6 +66,20 @@ def test_every_output_file_is_written(written):
     assert not [p for p in written.parent.iterdir() if p.name.startswith(".")]
 
 
+def test_a_ground_floor_report_carries_the_detail_views(geometries, tmp_path):
+    """The ground block makes the junction small; its close views are written in
+    every format and shown in both reports, right after their whole views."""
+    result = run(load(geometries / "ground_floor.py"), refinement=None)
+    out = outputs.write_outputs(result, tmp_path / "gf", stamp=False, workers=1)
+    for name in ("materials_detail", "temperature_detail"):
+        for ext in ("png", "svg", "pdf"):
+            assert (out / f"{name}.{ext}").stat().st_size > 0
+    page = (out / "report.html").read_text(encoding="utf-8")
+    assert page.count("data:image/png;base64,") == 7
+    assert page.index("Materials at the junction: a close view") > page.index(
+        "Materials as modelled")
+
+
 def test_html_is_self_contained_and_carries_the_inputs_and_results(demo, written):
     page = (written / "report.html").read_text(encoding="utf-8")
     assert not re.search(r"""(src|href)=["'](?!data:|#)""", page)
@@ -97,6 +111,21 @@ def test_verdicts_and_common_practice_wording(demo):
     assert "Common practice, no single source" in none
     assert "0.75" in none and "0.70 in Germany" in none
     assert "were not run for this report" in none
+
+
+def test_a_minimum_at_a_cut_off_plane_is_pointed_out(demo, geometries):
+    """The slab edge's coldest interior point is where the wall meets its lower
+    cut-off plane (the slab warms the wall near the junction); the balcony's is at
+    the junction itself, the slab's upper corner."""
+    at = demo.surface_temperature_case.theta_si_min_at
+    assert at[0] == pytest.approx(0.0) and at[1] == pytest.approx(-1200.0)
+    assert report.minimum_at_cut_off(demo)
+    text = _text(report.report_content(demo, {}, stamp=None))
+    assert "the coldest interior point is on a flanking element" in text
+    balcony = run(load(geometries / "balcony.py"))
+    assert not report.minimum_at_cut_off(balcony)
+    text = _text(report.report_content(balcony, {}, stamp=None))
+    assert "the coldest interior point is on a flanking element" not in text
 
 
 def test_dimension_system_from_the_name_or_not_stated(demo):
