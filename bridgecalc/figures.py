@@ -293,12 +293,15 @@ def fit_text(artist, width: float, smallest: float = 6.0) -> None:
         artist.set_text(text)
 
 
-def _new_figure(result, title: str, subtitle: str, extent, legend_rows=0):
+def _new_figure(result, title: str, subtitle: str, extent, legend_rows=0,
+                panel_at_edge=False):
     """A figure sized to the view's aspect, with the house header.
 
     Returns the figure, the plot axes and the aspect; the panel box (left,
     bottom, width, height) [figure fraction] for the legend or colour bar is
-    kept on the figure.
+    kept on the figure. ``panel_at_edge`` puts a side panel at the page's
+    right edge instead of beside the plot: beside a narrow plot, the room
+    between is then free for the θsi,min label.
     """
     aspect, side, plot_w, plot_h, fig_h = _section_layout(extent, legend_rows)
     fig = plt.figure(figsize=(PAGE_WIDTH, fig_h))
@@ -308,9 +311,8 @@ def _new_figure(result, title: str, subtitle: str, extent, legend_rows=0):
                        plot_w / PAGE_WIDTH, plot_h / fig_h])
     _header(fig, title, subtitle)
     if side:
-        # at the page's right edge: beside a narrow plot, the room between is
-        # free for the θsi,min label
-        left = (PAGE_WIDTH - MARGIN_RIGHT - SIDE_PANEL + 0.2) / PAGE_WIDTH
+        left = ((PAGE_WIDTH - MARGIN_RIGHT - SIDE_PANEL if panel_at_edge
+                 else MARGIN_LEFT + plot_w) + 0.2) / PAGE_WIDTH
         panel = (left, bottom / fig_h, 1 - left - MARGIN_RIGHT / PAGE_WIDTH, plot_h / fig_h)
     else:
         panel = (MARGIN_LEFT / PAGE_WIDTH, 0.1 / fig_h, plot_w / PAGE_WIDTH,
@@ -617,6 +619,8 @@ def _legend(fig, ax, handles, aspect, title=None):
                      title=title, alignment="left", handlelength=2.4, handleheight=1.8,
                      ncols=1 if side else 2, labelspacing=0.6)
     leg.get_title().set_fontweight("bold")
+    for text in leg.get_texts():
+        text.set_parse_math(False)        # material names are the user's, "$" included
     leg.set_gid("legend")
     return leg
 
@@ -698,7 +702,7 @@ def temperature_figure(result, isotherm_step=None, detail=False):
             result, model.name or "junction",
             ("Temperature at the junction (detail)" if detail else "Temperature")
             + f", surface-temperature case (θi = {theta_i:g} °C, θe = {theta_e:g} °C); "
-            f"isotherms every {step:g} K", extent)
+            f"isotherms every {step:g} K", extent, panel_at_edge=True)
         _frame(ax, result, extent)
         vmin = min(theta_i, theta_e, lo)
         vmax = max(theta_i, theta_e, hi)

@@ -289,3 +289,51 @@ def test_a_large_ground_block_gets_a_detail_view(demo, geometries):
         assert _by_gid(overview, "detail-window")
     finally:
         figures.plt.close(overview)
+
+
+def test_user_text_with_dollar_signs_is_drawn_as_written(tmp_path):
+    """Names are the user's: "$\\x$" must not go to matplotlib's mathtext parser,
+    which raises on an unknown symbol."""
+    model_file = tmp_path / "dollar.toml"
+    model_file.write_text(r'''
+format = 1
+name = 'Wall $\frac{ $ test'
+length_unit = "mm"
+[materials."conc$\\x$rete"]
+conductivity = 2.3
+[materials.insulation]
+conductivity = 0.035
+[[regions]]
+material = "conc$\\x$rete"
+rectangle = [0, 0, 200, 1000]
+[[regions]]
+material = "insulation"
+rectangle = [200, 0, 360, 1000]
+[[environments]]
+name = "inside"
+temperature = 20.0
+kind = "interior"
+[[environments]]
+name = "outside"
+temperature = 0.0
+kind = "exterior"
+[[surfaces]]
+environment = "inside"
+resistance = 0.13
+path = [[0, 0], [0, 1000]]
+[[surfaces]]
+environment = "outside"
+resistance = 0.04
+path = [[360, 0], [360, 1000]]
+''', encoding="utf-8")
+    result = run(load(model_file), refinement=None)
+    for name in figures.FIGURES:
+        fig = figures.build_figure(name, result)
+        try:
+            figures.save(fig, tmp_path / name, ("png",))
+            texts = _texts(fig)
+            assert "Wall $\\frac{ $ test" in texts
+            if name == "materials":
+                assert any(t.startswith("conc$\\x$rete") for t in texts)
+        finally:
+            figures.plt.close(fig)
