@@ -92,9 +92,13 @@ def _flowables(report: Report, width: float, placed: list):
     rule = RLTable([[""]], colWidths=[width], rowHeights=[2])
     rule.setStyle(TableStyle([("LINEABOVE", (0, 0), (-1, 0), 1.5, HexColor(ACCENT))]))
     out.append(rule)
+    heading = None      # a heading waits to go on the page of the figure after it
     for block in report.blocks:
+        if heading is not None and not isinstance(block, Figure):
+            out.append(heading)
+            heading = None
         if isinstance(block, Heading):
-            out.append(Paragraph(_text(block.text), s["h2"]))
+            heading = Paragraph(_text(block.text), s["h2"])
         elif isinstance(block, Para):
             if block.tone in TONES:
                 edge, fill = TONES[block.tone]
@@ -158,10 +162,14 @@ def _flowables(report: Report, width: float, placed: list):
             w = width
             if height > max_height:
                 w, height = width * max_height / height, max_height
-            out.append(KeepTogether([_Placeholder(vector, w, height, placed),
-                                     Paragraph(_text(block.caption), s["caption"])]))
+            out.append(KeepTogether(([heading] if heading is not None else [])
+                                    + [_Placeholder(vector, w, height, placed),
+                                       Paragraph(_text(block.caption), s["caption"])]))
+            heading = None
         else:
             raise TypeError(f"unknown report block {block!r}")
+    if heading is not None:
+        out.append(heading)
     return out
 
 

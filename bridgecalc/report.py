@@ -352,7 +352,7 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
         rows, "Surfaces and their surface resistances: the first is used for heat flow, L2D "
               "and Ψ, the second for θsi,min and fRsi (ISO 13788). Outline edges on no surface "
               "are adiabatic (cut-off or symmetry planes).", (3, 4, 6),
-        (0.8, 1.4, 1.1, 1.4, 1.6, 3.4, 1.2)))
+        (1.0, 1.4, 1.1, 1.4, 1.6, 3.2, 1.2)))
     if hf["flanking"]:
         rows = []
         for f_model, f in zip(model.flanking, hf["flanking"]):
