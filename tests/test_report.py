@@ -210,6 +210,14 @@ def test_pdf_pages_render_with_text_and_figures(demo, written, tmp_path):
         assert name in text
     assert "qualified practitioner" in text
     assert "58 compared quantities passed" in text
+    # pdftotext separates pages by form feeds: no heading is left alone at the
+    # foot of a page, away from the figure it introduces
+    page_of = {}
+    for k, page in enumerate(text.split("\f")):
+        for line in page.splitlines():
+            page_of.setdefault(line.strip(), k)
+    assert page_of["Figures"] == min(k for line, k in page_of.items()
+                                     if line.startswith("Figure 1."))
 
 
 def test_pdf_and_html_are_repeatable(demo, written, tmp_path):
