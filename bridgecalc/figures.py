@@ -52,7 +52,7 @@ from matplotlib.lines import Line2D  # noqa: E402
 from matplotlib.patches import Patch, PathPatch, Polygon  # noqa: E402
 from matplotlib.path import Path as PlotPath  # noqa: E402
 from matplotlib.text import Text  # noqa: E402
-from matplotlib.ticker import FuncFormatter  # noqa: E402
+from matplotlib.ticker import LogFormatter  # noqa: E402
 from mpl_toolkits.axes_grid1.anchored_artists import AnchoredSizeBar  # noqa: E402
 
 from .results import (design_temperatures, heat_flux_density,  # noqa: E402
@@ -141,7 +141,9 @@ def detail_window(result):
     is where the regions' corners crowd: a corner counts when another corner
     lies within a tenth of the section's size; the window is the box of those
     corners with a margin, drawn only when it covers less than
-    :data:`DETAIL_AREA_SHARE` of the whole (the tool's own rule).
+    :data:`DETAIL_AREA_SHARE` of the whole section's box and holds less than
+    that share of its solid (the tool's own rule: a sloping roof leaves its
+    box mostly empty, yet a close view of its wall would show no more).
     """
     model = result.model
     corners = np.unique(np.concatenate([np.asarray(r.vertices, float)
@@ -163,6 +165,13 @@ def detail_window(result):
     margin = 0.03 * float((b - a).max())
     a, b = a - margin, b + margin
     if np.prod(b - a) >= DETAIL_AREA_SHARE * np.prod(hi - lo):
+        return None
+    corners = xy[result.mesh.triangles]                        # (T, 3, 2)
+    e1, e2 = corners[:, 1] - corners[:, 0], corners[:, 2] - corners[:, 0]
+    area = 0.5 * np.abs(e1[:, 0] * e2[:, 1] - e1[:, 1] * e2[:, 0])
+    centre = corners.mean(axis=1)
+    within = np.all((centre >= a) & (centre <= b), axis=1)
+    if area[within].sum() >= DETAIL_AREA_SHARE * area.sum():
         return None
     return a, b
 
@@ -1149,10 +1158,20 @@ def heat_flux_figure(result):
         _flow_arrows(ax, triangulation, xy, q, magnitude)
         _frame(ax, result, extent)
         bar = _colour_bar(fig, ax, shade, aspect, "heat-flux density |q| [W/m²], log scale")
-        # plain numbers (0.1, 1, 10), not powers of ten in mathtext
-        bar.ax.yaxis.set_major_formatter(FuncFormatter(lambda v, _: f"{v:g}"))
-        bar.ax.xaxis.set_major_formatter(FuncFormatter(lambda v, _: f"{v:g}"))
+        # plain numbers (0.1, 1, 10; 3, 6 between them when the range is
+        # short), not powers of ten in mathtext
+        axis = bar.ax.yaxis if _side_or_below(aspect) else bar.ax.xaxis
+        axis.set_major_formatter(PlainLogFormatter())
+        axis.set_minor_formatter(PlainLogFormatter(labelOnlyBase=False))
     return fig
+
+
+class PlainLogFormatter(LogFormatter):
+    """Log-axis tick labels as plain numbers (0.1, 2, 40), not mathtext powers;
+    which ticks get a label is matplotlib's own choice."""
+
+    def _num_to_string(self, x, vmin, vmax):
+        return f"{x:g}"
 
 
 def _flow_arrows(ax, triangulation, xy, q, magnitude):
