@@ -261,6 +261,8 @@ def test_a_large_ground_block_gets_a_detail_view(demo, geometries):
     then gets a close view, the slab edge (all construction) does not."""
     assert figures.detail_window(demo) is None
     assert figures.figure_names(demo) == figures.FIGURES
+    # a sloping roof leaves its box mostly empty, but its wall is half the solid
+    assert figures.detail_window(run(load(geometries / "eaves.py"), refinement=None)) is None
     result = run(load(geometries / "ground_floor.py"))
     window = figures.detail_window(result)
     assert window is not None
@@ -337,3 +339,20 @@ path = [[360, 0], [360, 1000]]
                 assert any(t.startswith("conc$\\x$rete") for t in texts)
         finally:
             figures.plt.close(fig)
+
+
+def test_log_colour_bar_labels_are_plain_numbers(geometries):
+    """The timber stud's flux spans about one decade, so matplotlib labels minor
+    ticks too; every label must read as a number, not a mathtext power."""
+    result = run(load(geometries / "timber_stud.py"), refinement=None)
+    fig = figures.heat_flux_figure(result)
+    try:
+        fig.canvas.draw()
+        bar = _by_gid(fig, "colour-bar")[0]
+        labels = [t.get_text() for t in bar.yaxis.get_ticklabels(which="both")
+                  + bar.xaxis.get_ticklabels(which="both") if t.get_text()]
+        assert len(labels) >= 3
+        for text in labels:
+            float(text)                     # raises on "$\\mathdefault{6\\times10^{0}}$"
+    finally:
+        figures.plt.close(fig)
