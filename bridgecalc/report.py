@@ -181,6 +181,36 @@ def _surface_of_minimum(result) -> int | None:
     return int(mesh.boundary_surface[mask][int(np.argmin(dist))])
 
 
+#: Polygons with more corners than this are listed by their box, not corner by corner.
+LISTED_CORNERS = 12
+
+
+def regions_table(model) -> "Table":
+    """The geometry as drawn: each region in file order, its material and corners.
+
+    A rectangle is given by two corners, a polygon by all of them (or, past
+    :data:`LISTED_CORNERS`, by its number of corners and its bounding box).
+    """
+    unit = model.length_unit
+    rows = []
+    for k, region in enumerate(model.regions):
+        xy = region.vertices
+        if region.shape == "rectangle":
+            (x0, y0), (x1, y1) = xy[0], xy[2]
+            shape = f"rectangle {_point((x0, y0))} – {_point((x1, y1))}"
+        elif len(xy) <= LISTED_CORNERS:
+            shape = "polygon " + " ".join(_point(p) for p in xy)
+        else:
+            xs, ys = [p[0] for p in xy], [p[1] for p in xy]
+            shape = (f"polygon of {len(xy)} corners within {_point((min(xs), min(ys)))} – "
+                     f"{_point((max(xs), max(ys)))}")
+        source = f"{_g(region.heat_source)} W/m³" if region.heat_source else "–"
+        rows.append([str(k + 1), region.material, shape, source])
+    return Table(["region", "material", f"shape [{unit}]", "heat source"], rows,
+                 "Regions in drawing order: where two overlap, the later one is drawn "
+                 "over the earlier (model format 1).", (0,), (0.8, 2.2, 6.8, 1.2))
+
+
 def minimum_at_cut_off(result) -> bool:
     """True when θsi,min lies where an interior surface meets an adiabatic edge
     (a cut-off or symmetry plane) of the model: a point of the flanking element."""
@@ -335,6 +365,7 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
     blocks.append(Table(["#", "material", "λ [W/(m·K)]", "source of λ", "regions"], rows,
                         "Materials (# is the material_index of field.vtu).", (0, 2, 4),
                         (0.5, 2.2, 1.3, 6.0, 1.0)))
+    blocks.append(regions_table(model))
     blocks.append(Table(
         ["environment", "kind", "θ [°C]"],
         [[e.name, e.kind, _g(e.temperature)] for e in model.environments],

@@ -6,6 +6,7 @@ absent (.ci/run installs them). Criteria quoted in the report are common
 practice (fRsi 0.75 UK dwellings, 0.70 Germany; no single source).
 """
 
+import dataclasses
 import os
 import re
 import shutil
@@ -126,6 +127,20 @@ def test_a_minimum_at_a_cut_off_plane_is_pointed_out(demo, geometries):
     assert not report.minimum_at_cut_off(balcony)
     text = _text(report.report_content(balcony, {}, stamp=None))
     assert "the coldest interior point is on a flanking element" not in text
+
+
+def test_regions_are_listed_as_drawn(demo):
+    """The slab edge's four rectangles, in drawing order, with two corners each
+    (the defaults of geometries/slab_edge.py: 240 mm masonry, 160 mm EPS, a
+    220 mm slab whose edge is insulated with 60 mm mineral wool)."""
+    table = report.regions_table(demo.model)
+    assert [row[1] for row in table.rows] == [r.material for r in demo.model.regions]
+    assert table.rows[0][2] == "rectangle (0, −1200) – (240, 1420)"
+    assert table.rows[3][2] == "rectangle (180, 0) – (240, 220)"
+    many = report.regions_table(dataclasses.replace(demo.model, regions=[
+        dataclasses.replace(demo.model.regions[0], shape="polygon",
+                            vertices=tuple((float(k), float(k * k % 7)) for k in range(20)))]))  # squares mod 7: 0, 1, 2, 4
+    assert many.rows[0][2] == "polygon of 20 corners within (0, 0) – (19, 4)"
 
 
 def test_dimension_system_from_the_name_or_not_stated(demo):
