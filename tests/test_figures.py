@@ -295,39 +295,14 @@ def test_a_large_ground_block_gets_a_detail_view(demo, geometries):
 
 def test_user_text_with_dollar_signs_is_drawn_as_written(tmp_path):
     """Names are the user's: "$\\x$" must not go to matplotlib's mathtext parser,
-    which raises on an unknown symbol."""
+    which raises on an unknown symbol. The model is the CLI tests' plate."""
+    from test_cli import GOOD
     model_file = tmp_path / "dollar.toml"
-    model_file.write_text(r'''
-format = 1
-name = 'Wall $\frac{ $ test'
-length_unit = "mm"
-[materials."conc$\\x$rete"]
-conductivity = 2.3
-[materials.insulation]
-conductivity = 0.035
-[[regions]]
-material = "conc$\\x$rete"
-rectangle = [0, 0, 200, 1000]
-[[regions]]
-material = "insulation"
-rectangle = [200, 0, 360, 1000]
-[[environments]]
-name = "inside"
-temperature = 20.0
-kind = "interior"
-[[environments]]
-name = "outside"
-temperature = 0.0
-kind = "exterior"
-[[surfaces]]
-environment = "inside"
-resistance = 0.13
-path = [[0, 0], [0, 1000]]
-[[surfaces]]
-environment = "outside"
-resistance = 0.04
-path = [[360, 0], [360, 1000]]
-''', encoding="utf-8")
+    model_file.write_text(
+        GOOD.replace('name = "Plate"', "name = 'Wall $\\frac{ $ test'")
+            .replace("[materials.concrete]", '[materials."conc$\\\\x$rete"]')
+            .replace('material = "concrete"', 'material = "conc$\\\\x$rete"'),
+        encoding="utf-8")
     result = run(load(model_file), refinement=None)
     for name in figures.FIGURES:
         fig = figures.build_figure(name, result)
