@@ -17,6 +17,7 @@ import math
 import numbers
 import os
 import re
+import sys
 import tomllib
 from dataclasses import dataclass, field
 
@@ -337,7 +338,11 @@ class _Checker:
             return None
         if not _is_real(value):
             self.fail(where, f"expected a number, got {_describe(value)}")
-        value = float(value)
+        try:
+            value = float(value)
+        except OverflowError:            # an integer beyond the range of a float
+            self.fail(where, "expected a finite number, got an integer too large "
+                             "for a floating-point number")
         if not math.isfinite(value):
             self.fail(where, f"expected a finite number, got {value!r}")
         if minimum is not None:
@@ -465,6 +470,9 @@ def loads(text: str, origin: str = "<string>") -> Model:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         check.fail("", f"not a valid TOML file: {exc}")
+    except ValueError:           # Python's limit on converting long integers
+        check.fail("", "a number in the file has too many digits to read "
+                       f"(over {sys.get_int_max_str_digits()})")
     if not data:
         check.fail("", "the file is empty; a model needs at least format, length_unit, "
                        "materials, regions, environments and surfaces")
@@ -502,7 +510,7 @@ def loads(text: str, origin: str = "<string>") -> Model:
                               "or polygon = [[x, y], ...]")
         material = _required(check, table, "material", where)
         heat_source = table.get("heat_source", 0.0)
-        heat_source = float(heat_source) if _is_real(heat_source) else heat_source
+        heat_source = _as_float(heat_source)
         if "rectangle" in table:
             rect = table["rectangle"]
             if not _is_sequence(rect) or len(rect) != 4:
@@ -581,8 +589,14 @@ def loads(text: str, origin: str = "<string>") -> Model:
 
 
 def _as_float(value):
-    """Numbers become float; anything else is kept for validate() to name."""
-    return float(value) if _is_real(value) else value
+    """Numbers become float; anything else (including an integer too large for a
+    float) is kept for validate() to name."""
+    if not _is_real(value):
+        return value
+    try:
+        return float(value)
+    except OverflowError:
+        return value
 
 
 def _required(check: _Checker, table: dict, key: str, where: str):

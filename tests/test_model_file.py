@@ -143,6 +143,24 @@ CASES = [
      ["environments[1].kind", "expected a string"]),
     ("probe-name-number", setter("probes", 0, "name", 7), ["probes[0].name", "string"]),
     ("name-not-string", setter("name", 12), ["name", "expected a string"]),
+    # integers beyond the range of a float (TOML integers are unbounded in Python)
+    ("conductivity-huge-integer", setter("materials", "concrete", "conductivity", 10 ** 400),
+     ["materials.concrete.conductivity", "integer too large"]),
+    ("rectangle-huge-integer", setter("regions", 0, "rectangle", [0, 0, 200, 10 ** 400]),
+     ["regions[0].rectangle[3]", "integer too large"]),
+    ("heat-source-huge-integer", setter("regions", 0, "heat_source", -10 ** 400),
+     ["regions[0].heat_source", "integer too large"]),
+    ("temperature-huge-integer", setter("environments", 1, "temperature", 10 ** 400),
+     ["environments[1].temperature", "integer too large"]),
+    ("resistance-huge-integer", setter("surfaces", 0, "resistance", 10 ** 400),
+     ["surfaces[0].resistance", "integer too large"]),
+    ("flanking-length-huge-integer", setter("flanking", 0, "length", 10 ** 400),
+     ["flanking[0].length", "integer too large"]),
+    ("surface-resistances-huge-integer",
+     setter("flanking", 1, "surface_resistances", [0.13, 10 ** 400]),
+     ["flanking[1].surface_resistances[1]", "integer too large"]),
+    ("probe-huge-integer", setter("probes", 0, "at", [0, 10 ** 400]),
+     ["probes[0].at[1]", "integer too large"]),
     # materials
     ("undefined-material", setter("regions", 1, "material", "insulaton"),
      ["regions[1].material", "material 'insulaton' is not defined",
@@ -273,7 +291,9 @@ def test_each_rule_has_a_message_naming_file_table_and_key(change, expected):
     ("# nothing but a comment\n\n", "empty"),
     ("format = 1\nlength_unit = mm\n", "not a valid TOML file"),
     ("format = 1\n[[regions]\n", "not a valid TOML file"),
-], ids=["empty", "comment-only", "bare-word", "broken-header"])
+    # Python refuses to convert integers of more than 4300 digits from text
+    ("format = 1" + "0" * 5000 + "\n", "too many digits"),
+], ids=["empty", "comment-only", "bare-word", "broken-header", "integer-of-5001-digits"])
 def test_text_that_is_not_a_model(text, expected):
     with pytest.raises(ModelError, match=re.escape(f"detail.toml: ") + ".*" + expected):
         M.loads(text, "detail.toml")
