@@ -791,6 +791,34 @@ def _check_regions(check: _Checker, model: Model):
         else:
             check.fail(f"{where}", f"shape must be 'rectangle' or 'polygon', got "
                                    f"{_describe(region.shape)}")
+    tol = geometry.on_path_tolerance([r.vertices for r in model.regions])
+    for i, region in enumerate(model.regions):
+        _check_clearance(check, region, f"regions[{i}].{region.shape}", tol,
+                         model.length_unit)
+
+
+def _check_clearance(check: _Checker, region: Region, where: str, tol: float, unit: str):
+    """Reject a region that comes within the on-path tolerance of itself.
+
+    Points closer than the tolerance are one point to the mesher (gmsh's
+    geometry tolerance is set to it), so a shorter edge, or a vertex that
+    close to an edge it does not belong to, is a degenerate outline there.
+    """
+    shape = shapely.Polygon([(float(x), float(y)) for x, y in region.vertices])
+    clearance = shapely.minimum_clearance(shape)
+    if not clearance <= tol:
+        return
+    if region.shape == "rectangle":
+        (x0, y0), (x1, y1) = region.vertices[0], region.vertices[2]
+        side, size = min((x1 - x0, "x1 - x0"), (y1 - y0, "y1 - y0"))
+        check.fail(where, f"{size} = {_fmt(side)} {unit} is within the model's tolerance "
+                          f"of {tol:.3g} {unit} (1e-6 of its largest dimension); the "
+                          f"rectangle is degenerate")
+    a, b = shapely.minimum_clearance_line(shape).coords
+    check.fail(where, f"the outline comes within {_fmt(clearance)} {unit} of itself near "
+                      f"{_fmt_point(a)}, within the model's tolerance of {tol:.3g} {unit} "
+                      f"(1e-6 of its largest dimension): two vertices almost coincide, or "
+                      f"a vertex almost touches an edge; merge them or move them apart")
 
 
 def _check_rectangle(check: _Checker, region: Region, where: str):

@@ -136,6 +136,12 @@ BAD_MODELS = {
         material = "steel"
         rectangle = [1000, 0, 1100, 100]
         """), "regions"),
+    # two vertices 1e-5 mm apart, under the tolerance of 1e-6 x 2000 mm: the mesher
+    # crashed on it with a traceback
+    "polygon edge shorter than the tolerance": (GOOD.replace(
+        "rectangle = [200, 995, 360, 1005]",
+        "polygon = [[200, 995], [360, 995], [360, 1005], [200.00001, 1005], [200, 1005]]"),
+        "regions[2].polygon"),
     "not TOML": ("this is [not toml", "TOML"),
     "empty file": ("", "empty"),
 }
