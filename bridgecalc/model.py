@@ -983,9 +983,34 @@ def region_shapes(model: Model) -> list:
 
 
 def solid_pieces(model: Model) -> list:
-    """Connected pieces of the solid (union of all regions), shapely polygons."""
-    union = shapely.unary_union(region_shapes(model))
+    """Connected pieces of the solid (union of all regions), shapely polygons.
+
+    Regions are joined as the mesher joins them: gmsh's boolean tolerance is
+    the on-path tolerance (:func:`bridgecalc.geometry.on_path_tolerance`), so
+    a corner or edge of one region within it of another region's corner or
+    edge is snapped onto it before the union; two regions 200 and
+    200.0000001 mm from the origin are one piece, not two. Regions meeting at a
+    single point stay separate pieces.
+    """
+    tol = geometry.on_path_tolerance([r.vertices for r in model.regions])
+    union = None
+    for shape in region_shapes(model):
+        if union is None:
+            union = shape
+            continue
+        shape = _polygonal(shapely.snap(shape, union, tol))
+        union = _polygonal(shapely.snap(union, shape, tol))
+        union = _polygonal(shapely.union(union, shape))
     return list(getattr(union, "geoms", [union]))
+
+
+def _polygonal(geom):
+    """The polygons of a geometry (valid), without lines or points left by snapping."""
+    if not geom.is_valid:
+        geom = shapely.make_valid(geom)
+    parts = [g for g in getattr(geom, "geoms", [geom])
+             if isinstance(g, (shapely.Polygon, shapely.MultiPolygon)) and not g.is_empty]
+    return shapely.unary_union(parts) if len(parts) != 1 else parts[0]
 
 
 def outline_edges(model: Model, _check: _Checker | None = None) -> list[OutlineEdge]:

@@ -485,6 +485,70 @@ def test_pieces_each_touched_by_a_surface_are_allowed():
     M.loads(text_of(data), "detail.toml")
 
 
+def test_regions_touching_at_a_single_point_are_separate_pieces():
+    data = base()
+    data["regions"].append({"material": "concrete", "rectangle": [360, 1000, 460, 1100]})
+    with pytest.raises(ModelError, match=r"regions\[2\]\.rectangle: the solid falls apart "
+                                         r"into 2 separate pieces"):
+        M.loads(text_of(data), "detail.toml")
+
+
+def three_layers_with_gaps(gap):
+    """Concrete | insulation | render, each layer `gap` mm from the one before;
+    only the two outer faces carry surfaces."""
+    data = base()
+    data["regions"] = [
+        {"material": "concrete", "rectangle": [0, 0, 200, 1000]},
+        {"material": "insulation", "rectangle": [200 + gap, 0, 360, 1000]},
+        {"material": "concrete", "rectangle": [360 + gap, 0, 380, 1000]},
+    ]
+    data["surfaces"][1]["path"] = [[380, 0], [380, 1000]]
+    data["flanking"] = []
+    data["probes"] = []
+    return data
+
+
+def test_regions_within_the_tolerance_of_each_other_are_one_piece():
+    # tolerance 1e-6 x 1000 mm = 0.001 mm; the mesher's boolean tolerance is the
+    # same, and it joins such regions: so does the reader
+    m = M.loads(text_of(three_layers_with_gaps(1e-7)), "detail.toml")
+    assert len(M.solid_pieces(m)) == 1
+    edges = M.outline_edges(m)
+    # the outline of one 380 mm x 1000 mm block: 2 (380 + 1000) = 2760 mm
+    assert sum(math.dist(e.start, e.end) for e in edges) == pytest.approx(2760.0)
+    # a gap wider than the tolerance is a gap: the insulation is a piece of its own
+    with pytest.raises(ModelError, match=r"regions\[1\]\.rectangle: the solid falls apart "
+                                         r"into 3 separate pieces"):
+        M.loads(text_of(three_layers_with_gaps(0.01)), "detail.toml")
+
+
+def test_regions_within_the_tolerance_give_the_one_dimensional_u_value():
+    """The joined layers conduct as one wall: L2D = U·h with U = 1 / ΣR, the plane-
+    layer formula of ISO 6946 (an analytic solution for this 1D case)."""
+    import bridgecalc
+    m = M.loads(text_of(three_layers_with_gaps(1e-7)), "detail.toml")
+    result = bridgecalc.run(m, refinement=None)
+    resistance = 0.13 + 0.2 / 2.3 + 0.16 / 0.035 + 0.02 / 2.3 + 0.04   # m²·K/W
+    height = 1.0                                                        # m
+    assert result.coupling_coefficient == pytest.approx(height / resistance, rel=1e-6)
+
+
+def test_a_corner_within_the_tolerance_of_an_edge_joins_it():
+    # a block standing 1e-7 mm above the top of the wall, with no surface of its own
+    data = base()
+    data["regions"].append({"material": "insulation", "rectangle": [50, 1000.0000001, 150, 1100]})
+    m = M.loads(text_of(data), "detail.toml")
+    assert len(M.solid_pieces(m)) == 1
+
+
+def test_a_path_in_a_gap_within_the_tolerance_lies_on_no_outline_edge():
+    # the outside surface runs along a 1e-7 mm gap that the mesher closes
+    data = base()
+    data["regions"].append({"material": "concrete", "rectangle": [360.0000001, 0, 460, 1000]})
+    with pytest.raises(ModelError, match=r"surfaces\[1\]\.path: lies on no outline edge"):
+        M.loads(text_of(data), "detail.toml")
+
+
 # ---------------------------------------------------------------------------
 # Round trips: read(write(m)) == m
 # ---------------------------------------------------------------------------
