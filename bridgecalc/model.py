@@ -906,6 +906,29 @@ def _check_surfaces(check: _Checker, model: Model):
         check.points(surf.path, f"{where}.path", 2, "a surface path")
 
 
+def check_both_sides_faced(model: Model) -> None:
+    """Before a calculation: some surface faces an interior and some an exterior environment.
+
+    A file without one of them is readable (format 1 does not forbid it), but
+    nothing can flow between interior and exterior: L2D would be 0, Ψ = −ΣU·l
+    and fRsi = 1, a result that would pass any criterion.
+
+    Raises
+    ------
+    ModelError
+        Naming the table ``surfaces`` and the environments no surface faces.
+    """
+    check = _Checker(model.origin)
+    faced = {model.environment(s.environment).kind for s in model.surfaces}
+    for kind in ENVIRONMENT_KINDS:
+        if kind not in faced:
+            names = ", ".join(repr(e.name) for e in model.environments if e.kind == kind)
+            check.fail("surfaces", f"no surface faces an {kind} environment ({names}), so "
+                                   f"no heat can flow between interior and exterior and "
+                                   f"L2D, Ψ and fRsi would mean nothing; give the {kind} "
+                                   f"side a [[surfaces]] table")
+
+
 def _check_flanking(check: _Checker, model: Model):
     for i, flank in enumerate(model.flanking):
         where = f"flanking[{i}]"

@@ -129,6 +129,8 @@ BAD_MODELS = {
                                               "path = [[0, 0], [0, 2000]]"), "surfaces[1]"),
     "no exterior environment": (GOOD.replace('kind = "exterior"', 'kind = "interior"'),
                                 "environments"),
+    "no surface faces the exterior": (GOOD.replace('environment = "outside"',
+                                                   'environment = "inside"'), "surfaces"),
     "probe outside the solid": (GOOD.replace("at = [0, 1000]", "at = [-50, 1000]"),
                                 "probes[0].at"),
     "pieces no surface touches": (GOOD + textwrap.dedent("""\

@@ -485,6 +485,24 @@ def test_pieces_each_touched_by_a_surface_are_allowed():
     M.loads(text_of(data), "detail.toml")
 
 
+@pytest.mark.parametrize("surface, environment, kind, name", [
+    (1, "inside", "exterior", "outside"), (0, "outside", "interior", "inside")])
+def test_a_side_no_surface_faces_reads_but_does_not_run(surface, environment, kind, name):
+    # format 1 does not forbid it (its own example has no exterior surface), but
+    # the run gave L2D = 0, Ψ = −ΣU·l and fRsi = 1 with exit 0
+    import bridgecalc
+    data = base()
+    data["surfaces"][surface]["environment"] = environment
+    m = M.loads(text_of(data), "detail.toml")
+    expected = re.escape(f"detail.toml: surfaces: no surface faces an {kind} environment "
+                         f"('{name}')")
+    with pytest.raises(ModelError, match=expected):
+        M.check_both_sides_faced(m)
+    with pytest.raises(ModelError, match=expected):
+        bridgecalc.run(m)
+    M.check_both_sides_faced(M.loads(text_of(base()), "detail.toml"))
+
+
 def test_regions_touching_at_a_single_point_are_separate_pieces():
     data = base()
     data["regions"].append({"material": "concrete", "rectangle": [360, 1000, 460, 1100]})
