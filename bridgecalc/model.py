@@ -723,10 +723,16 @@ def validate(model: Model) -> None:
     if isinstance(fmt, bool) or not isinstance(fmt, int) or fmt != FORMAT:
         check.fail("format", f"unknown format {fmt!r}; this version of bridgecalc reads "
                              f"format {FORMAT}")
+    check.string(model.length_unit, "length_unit")
     if model.length_unit not in LENGTH_UNITS:
         check.fail("length_unit", f"unknown unit {model.length_unit!r}; use one of "
                                   f"{', '.join(repr(u) for u in LENGTH_UNITS)}")
     check.string(model.name, "name", optional=True)
+    for table, noun in (("regions", "Region"), ("environments", "Environment"),
+                        ("surfaces", "Surface"), ("flanking", "Flanking"), ("probes", "Probe")):
+        value = getattr(model, table)
+        if not isinstance(value, (list, tuple)):
+            check.fail(table, f"expected a list of {noun}, got {_describe(value)}")
     _check_materials(check, model)
     _check_regions(check, model)
     _check_environments(check, model)

@@ -399,9 +399,18 @@ def test_in_memory_model_is_valid_and_validate_is_repeatable():
     (dict(materials={"concrete": Material("concrete", 2.3),
                      "insulation": Material("mineral wool", 0.035)}),
      "demo_script.py: materials.insulation: is stored under the name"),
+    # these crashed validate() with a TypeError
+    (dict(environments=None), "demo_script.py: environments: expected a list of Environment, "
+                              "got nothing"),
+    (dict(flanking=None), "demo_script.py: flanking: expected a list of Flanking, got nothing"),
+    (dict(probes=None), "demo_script.py: probes: expected a list of Probe, got nothing"),
+    (dict(flanking=Flanking("wall", 1000, u_value=0.2)),
+     "demo_script.py: flanking: expected a list of Flanking, got Flanking"),
+    (dict(length_unit=["mm"]), "demo_script.py: length_unit: expected a string"),
 ], ids=["string-conductivity", "undefined-material", "flipped-rectangle",
         "rectangle-corners", "probe-outside", "unit", "format", "boolean-u",
-        "air-layer-mismatch", "material-name-mismatch"])
+        "air-layer-mismatch", "material-name-mismatch", "environments-none", "flanking-none",
+        "probes-none", "flanking-not-a-list", "unit-a-list"])
 def test_in_memory_rules(changes, expected):
     with pytest.raises(ModelError) as info:
         M.validate(memory_model(**changes))
