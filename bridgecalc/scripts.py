@@ -28,9 +28,9 @@ def load_module(path):
         spec.loader.exec_module(module)
     except BridgecalcError:
         raise
-    except Exception as exc:                # a user's script: report, do not crash
+    except (Exception, SystemExit) as exc:  # a user's script: report, do not crash
         raise ModelError(f"{path}: the geometry script failed to load: "
-                         f"{type(exc).__name__}: {exc}") from exc
+                         f"{_failure(exc)}") from exc
     finally:
         sys.modules.pop(name, None)
     for attribute in ("PARAMETERS", "build"):
@@ -39,6 +39,13 @@ def load_module(path):
     if not isinstance(module.PARAMETERS, dict):
         raise ModelError(f"{path}: PARAMETERS must be a dict of parameter defaults")
     return module
+
+
+def _failure(exc: BaseException) -> str:
+    """What went wrong in a user's script, in one line."""
+    if isinstance(exc, SystemExit):     # sys.exit() would end bridgecalc with its code
+        return f"it called sys.exit({exc.code!r})"
+    return f"{type(exc).__name__}: {exc}"
 
 
 def parse_value(text: str, default):
@@ -96,8 +103,8 @@ def build(path, params=None, module=None) -> Model:
         model = module.build(**values)
     except BridgecalcError:
         raise
-    except Exception as exc:
-        raise ModelError(f"{path}: build() failed: {type(exc).__name__}: {exc}") from exc
+    except (Exception, SystemExit) as exc:
+        raise ModelError(f"{path}: build() failed: {_failure(exc)}") from exc
     if not isinstance(model, Model):
         raise ModelError(f"{path}: build() must return a bridgecalc.Model, "
                          f"got {type(model).__name__}")

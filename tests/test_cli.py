@@ -182,6 +182,20 @@ def test_bad_arguments_exit_2(tmp_path, capsys, monkeypatch, argv, needle):
     assert sorted(p.name for p in tmp_path.iterdir()) == ["detail.toml"]
 
 
+@pytest.mark.parametrize("script, needle", [
+    ("import sys\nsys.exit(3)\n", "failed to load: it called sys.exit(3)"),
+    ("import sys\nPARAMETERS = {}\n\ndef build(**params):\n    sys.exit('bye')\n",
+     "build() failed: it called sys.exit('bye')"),
+], ids=["at-import", "in-build"])
+def test_script_calling_sys_exit_exit_2(tmp_path, capsys, script, needle):
+    # sys.exit in a geometry script ended bridgecalc with the script's code (3, 1)
+    path = write(tmp_path, script, name="exits.py")
+    assert main(["run", str(path), "--out", str(tmp_path / "o")]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith(f"error: {path}: ") and needle in err, err
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["exits.py"]
+
+
 def test_three_temperatures_exit_2(tmp_path, capsys):
     text = GOOD + textwrap.dedent("""\
         [[environments]]
