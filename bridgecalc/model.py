@@ -441,7 +441,7 @@ def read(path) -> Model:
     except OSError as exc:
         raise ModelError(f"{origin}: cannot read the model file ({exc.strerror or exc})") from None
     try:
-        text = raw.decode("utf-8")
+        text = raw.decode("utf-8-sig")    # a byte-order mark (some Windows editors) is dropped
     except UnicodeDecodeError as exc:
         raise ModelError(f"{origin}: not a text file in UTF-8 (bad byte at position "
                          f"{exc.start}); a model file is TOML text") from None

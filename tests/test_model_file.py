@@ -330,6 +330,13 @@ def test_read_folder_and_binary_file(tmp_path):
         M.read(binary)
 
 
+def test_read_a_file_starting_with_a_utf8_byte_order_mark(tmp_path):
+    # some Windows editors write one; it was refused as "not a valid TOML file"
+    path = tmp_path / "detail.toml"
+    path.write_bytes(b"\xef\xbb\xbf" + text_of(base()).encode("utf-8"))
+    assert M.read(path) == M.loads(text_of(base()))
+
+
 def test_read_names_the_file_in_rule_messages(tmp_path):
     data = base()
     data["regions"][1]["material"] = "concrte"
