@@ -159,6 +159,17 @@ def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None,
     return out_dir
 
 
+def check_out_folder(out_dir: Path) -> None:
+    """Refuse, before any work, an output folder that is, or lies in, a file."""
+    for path in (out_dir, *out_dir.parents):
+        if path.exists():
+            if path == out_dir and not path.is_dir():
+                raise BridgecalcError(f"--out {out_dir}: exists and is not a folder")
+            if not path.is_dir():
+                raise BridgecalcError(f"--out {out_dir}: {path} is not a folder")
+            return
+
+
 def command_run(args) -> int:
     from .outputs import fresh_folder
     if not args.refine > 0:
@@ -171,6 +182,7 @@ def command_run(args) -> int:
                               f"got {args.max_nodes}")
     model, dimension_system = _load(args.model, args.assignments)
     out_dir = Path(args.out) if args.out else fresh_folder(Path.cwd() / Path(args.model).stem)
+    check_out_folder(out_dir)
     _run_and_write(model, out_dir, args.element, args.refine, args, dimension_system)
     return 0
 
@@ -180,6 +192,7 @@ def command_demo(args) -> int:
     script = geometries_folder() / DEMO_SCRIPT
     model, dimension_system = _load(str(script), [])
     out_dir = Path(args.out) if args.out else fresh_folder(Path.cwd() / "bridgecalc-demo")
+    check_out_folder(out_dir)
     _run_and_write(model, out_dir, args=args, dimension_system=dimension_system)
     print(f"report: {out_dir / REPORT_FILE}")
     return 0

@@ -196,6 +196,28 @@ def test_script_calling_sys_exit_exit_2(tmp_path, capsys, script, needle):
     assert sorted(p.name for p in tmp_path.iterdir()) == ["exits.py"]
 
 
+@pytest.mark.parametrize("out, needle", [
+    ("taken", "--out {out}: exists and is not a folder"),
+    ("taken/results", "--out {out}: {tmp}/taken is not a folder"),
+], ids=["a-file", "in-a-file"])
+def test_out_that_is_a_file_exit_2_before_any_work(tmp_path, capsys, monkeypatch, out, needle):
+    # the run computed everything, then failed naming its staging folder
+    # (".taken.x1y2z3/mesh.png: Not a directory")
+    import bridgecalc.pipeline
+    model = write(tmp_path, GOOD)
+    (tmp_path / "taken").write_text("a file in the way\n", encoding="utf-8")
+
+    def no_run(*args, **kwargs):
+        raise AssertionError("computed although the output folder cannot be written")
+    monkeypatch.setattr(bridgecalc.pipeline, "run", no_run)
+    out = tmp_path / out
+    assert main(["run", str(model), "--out", str(out)]) == 2
+    err = capsys.readouterr().err
+    assert err == "error: " + needle.format(out=out, tmp=tmp_path) + "\n", err
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["detail.toml", "taken"]
+    assert (tmp_path / "taken").read_text(encoding="utf-8") == "a file in the way\n"
+
+
 def test_three_temperatures_exit_2(tmp_path, capsys):
     text = GOOD + textwrap.dedent("""\
         [[environments]]
