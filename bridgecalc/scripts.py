@@ -18,6 +18,8 @@ from .model import Model
 def load_module(path):
     """Import a geometry script by path, without touching sys.modules for good."""
     path = Path(path)
+    if path.is_dir():
+        raise ModelError(f"{path}: is a folder, not a geometry script")
     if not path.is_file():
         raise ModelError(f"{path}: no such geometry script")
     name = f"bridgecalc_script_{uuid.uuid4().hex}"

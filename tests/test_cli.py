@@ -218,6 +218,18 @@ def test_out_that_is_a_file_exit_2_before_any_work(tmp_path, capsys, monkeypatch
     assert (tmp_path / "taken").read_text(encoding="utf-8") == "a file in the way\n"
 
 
+@pytest.mark.parametrize("name, needle", [
+    ("detail.toml", "is a folder, not a model file"),
+    ("junction.py", "is a folder, not a geometry script"),     # said "no such geometry script"
+])
+def test_folder_as_model_exit_2(tmp_path, capsys, name, needle):
+    folder = tmp_path / name
+    folder.mkdir()
+    assert main(["run", str(folder), "--out", str(tmp_path / "o")]) == 2
+    assert capsys.readouterr().err == f"error: {folder}: {needle}\n"
+    assert sorted(p.name for p in tmp_path.iterdir()) == [name]
+
+
 def test_three_temperatures_exit_2(tmp_path, capsys):
     text = GOOD + textwrap.dedent("""\
         [[environments]]
