@@ -31,6 +31,8 @@ from .errors import ModelError
 FORMAT = 1
 LENGTH_UNITS = {"mm": 1e-3, "m": 1.0}
 ENVIRONMENT_KINDS = ("interior", "exterior")
+#: 0 K in °C, by the definition of the Celsius scale (ISO 80000-5, from memory).
+ABSOLUTE_ZERO = -273.15
 
 Point = tuple[float, float]
 
@@ -880,7 +882,10 @@ def _check_environments(check: _Checker, model: Model):
             check.fail(where, f"expected an Environment, got {_describe(env)}")
         check.string(env.name, f"{where}.name")
         _unique_name(check, seen, env.name, "environment", "environments", i)
-        check.number(env.temperature, f"{where}.temperature")
+        temperature = check.number(env.temperature, f"{where}.temperature")
+        if temperature < ABSOLUTE_ZERO:
+            check.fail(f"{where}.temperature", f"{_fmt(temperature)} °C is below absolute zero "
+                                               f"({_fmt(ABSOLUTE_ZERO)} °C)")
         check.string(env.kind, f"{where}.kind")
         if env.kind not in ENVIRONMENT_KINDS:
             check.fail(f"{where}.kind", f"unknown kind {env.kind!r}; use one of "

@@ -230,6 +230,12 @@ CASES = [
      ["environments[1].kind", "'outdoor'"]),
     ("temperature-infinite", setter("environments", 0, "temperature", INF),
      ["environments[0].temperature", "finite"]),
+    # 0 K = −273.15 °C (definition of the Celsius scale, ISO 80000-5, from memory);
+    # −300 °C ran and gave a report
+    ("temperature-below-absolute-zero", setter("environments", 1, "temperature", -300),
+     ["environments[1].temperature", "-300 °C is below absolute zero (-273.15 °C)"]),
+    ("temperature-huge-negative", setter("environments", 1, "temperature", -1e308),
+     ["environments[1].temperature", "below absolute zero"]),
     ("no-interior", setter("environments", 0, "kind", "exterior"),
      ["environments", "no interior environment"]),
     ("no-exterior", setter("environments", 1, "kind", "interior"),
