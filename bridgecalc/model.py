@@ -917,6 +917,31 @@ def _check_surfaces(check: _Checker, model: Model):
         check.points(surf.path, f"{where}.path", 2, "a surface path")
 
 
+#: Smallest |θi − θe| accepted, relative to the larger of |θi|, |θe| and 1 K [-].
+TEMPERATURE_DIFFERENCE_RELATIVE = 1e-6
+
+
+def check_temperature_difference(model: Model, theta_i: float, theta_e: float) -> None:
+    """Before a calculation: θi − θe is large enough to divide by.
+
+    L2D and fRsi are divided by θi − θe, while the solver works with the
+    temperatures themselves; a difference under a millionth of them is mostly
+    round-off (a difference of 1e-12 K at 20 °C gave L2D = −7 W/(m·K)).
+
+    Raises
+    ------
+    ModelError
+        Naming the table ``environments`` and both temperatures.
+    """
+    limit = TEMPERATURE_DIFFERENCE_RELATIVE * max(abs(theta_i), abs(theta_e), 1.0)
+    if abs(theta_i - theta_e) <= limit:
+        _Checker(model.origin).fail(
+            "environments", f"interior ({theta_i:.15g} °C) and exterior ({theta_e:.15g} °C) "
+                            f"differ by {abs(theta_i - theta_e):.3g} K, too little to divide "
+                            f"L2D and fRsi by without round-off swamping them; give them a "
+                            f"difference of more than {limit:.3g} K")
+
+
 def check_both_sides_faced(model: Model) -> None:
     """Before a calculation: some surface faces an interior and some an exterior environment.
 

@@ -189,8 +189,8 @@ def run(model: Model, mesh_options: MeshOptions | None = None, element: str = "P
 
 def _run(model, mesh_options, element, tolerance, max_nodes, refinement) -> Result:
     model_io.validate(model)
-    model_io.check_both_sides_faced(model)     # these two fail before meshing
-    design_temperatures(model)
+    model_io.check_both_sides_faced(model)     # these fail before meshing
+    model_io.check_temperature_difference(model, *design_temperatures(model))
     if refinement is None:
         mesh = build_mesh(model, mesh_options)
         heat, surface, *_ = _solve_mesh(model, mesh, element)

@@ -131,6 +131,9 @@ BAD_MODELS = {
                                 "environments"),
     "no surface faces the exterior": (GOOD.replace('environment = "outside"',
                                                    'environment = "inside"'), "surfaces"),
+    "temperatures 1e-12 K apart": (GOOD.replace("temperature = 0.0",
+                                                "temperature = 19.999999999999"),
+                                   "environments"),
     "probe outside the solid": (GOOD.replace("at = [0, 1000]", "at = [-50, 1000]"),
                                 "probes[0].at"),
     "pieces no surface touches": (GOOD + textwrap.dedent("""\

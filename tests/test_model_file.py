@@ -525,6 +525,28 @@ def test_a_side_no_surface_faces_reads_but_does_not_run(surface, environment, ki
     M.check_both_sides_faced(M.loads(text_of(base()), "detail.toml"))
 
 
+@pytest.mark.parametrize("theta_i, theta_e, accepted", [
+    (20.000000000001, 20.0, False),     # ran: L2D = −7.4 W/(m·K), fRsi = 1.97, exit 0
+    (1e-300, 0.0, False),               # ran into a figure failing with a traceback
+    (20.0, 19.9999, True),              # 1e-4 K: above the limit of 2e-5 K
+    (-10.0, 20.0, True),                # interior colder: a difference all the same
+])
+def test_a_temperature_difference_lost_in_round_off_does_not_run(theta_i, theta_e, accepted):
+    import bridgecalc
+    from bridgecalc.results import design_temperatures
+    data = base()
+    data["environments"][0]["temperature"] = theta_i
+    data["environments"][1]["temperature"] = theta_e
+    m = M.loads(text_of(data), "detail.toml")
+    if accepted:
+        M.check_temperature_difference(m, *design_temperatures(m))
+        return
+    with pytest.raises(ModelError, match=r"detail\.toml: environments: interior .* too little"):
+        M.check_temperature_difference(m, *design_temperatures(m))
+    with pytest.raises(ModelError, match="too little"):
+        bridgecalc.run(m)
+
+
 def test_regions_touching_at_a_single_point_are_separate_pieces():
     data = base()
     data["regions"].append({"material": "concrete", "rectangle": [360, 1000, 460, 1100]})
