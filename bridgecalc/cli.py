@@ -156,6 +156,8 @@ def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None,
     write_outputs(result, out_dir, f_rsi_min=f_rsi_min, isotherm_step=isotherm_step,
                   dimension_system=dimension_system)
     print(summary(result, out_dir))
+    for warning in result.warnings:
+        print(f"warning: {warning}", file=sys.stderr)
     return out_dir
 
 

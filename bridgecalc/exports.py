@@ -20,7 +20,7 @@ import io
 
 import numpy as np
 
-from .results import heat_flux_density
+from .results import f_rsi_verdict, heat_flux_density
 
 VTU_FILE = "field.vtu"
 CSV_FILE = "results.csv"
@@ -95,9 +95,7 @@ def headline_row(result, f_rsi_min=None, dimension_system=None, version="") -> d
     data = result.to_dict()
     hf, st = data["heat_flow_case"], data["surface_temperature_case"]
     convergence = data.get("convergence")
-    verdict = ""
-    if f_rsi_min is not None:
-        verdict = "meets" if st["f_rsi"] >= f_rsi_min else "fails"
+    verdict = f_rsi_verdict(st["f_rsi"], f_rsi_min, data.get("warnings")) or ""
     row = {
         "name": data["name"] or "",
         "length_unit": data["length_unit"],

@@ -942,27 +942,30 @@ def check_temperature_difference(model: Model, theta_i: float, theta_e: float) -
                             f"difference of more than {limit:.3g} K")
 
 
-def check_both_sides_faced(model: Model) -> None:
-    """Before a calculation: some surface faces an interior and some an exterior environment.
+def unfaced_sides(model: Model) -> dict[str, str]:
+    """Environment kinds ("interior", "exterior") that no surface faces, each
+    with a message that says so, names the environments and the table.
 
-    A file without one of them is readable (format 1 does not forbid it), but
-    nothing can flow between interior and exterior: L2D would be 0, Ψ = −ΣU·l
-    and fRsi = 1, a result that would pass any criterion.
-
-    Raises
-    ------
-    ModelError
-        Naming the table ``surfaces`` and the environments no surface faces.
+    Format 1 does not forbid such a file (its own example has no exterior
+    surface), so the reader reads it. Without an interior surface there is no
+    θsi,min, and ``run`` refuses the model; without an exterior surface no
+    heat flows between the sides, L2D = 0, Ψ = −ΣU·l and fRsi = 1 by
+    construction, and ``run`` computes it with that warning carried to every
+    output.
     """
-    check = _Checker(model.origin)
     faced = {model.environment(s.environment).kind for s in model.surfaces}
+    out = {}
     for kind in ENVIRONMENT_KINDS:
         if kind not in faced:
             names = ", ".join(repr(e.name) for e in model.environments if e.kind == kind)
-            check.fail("surfaces", f"no surface faces an {kind} environment ({names}), so "
-                                   f"no heat can flow between interior and exterior and "
-                                   f"L2D, Ψ and fRsi would mean nothing; give the {kind} "
-                                   f"side a [[surfaces]] table")
+            consequence = ("so there is no interior surface temperature" if kind == "interior"
+                           else "so no heat flows between interior and exterior: L2D = 0, "
+                                "Ψ = −ΣU·l and fRsi = 1 by construction, and they say "
+                                "nothing about the junction")
+            out[kind] = (f"{model.origin}: surfaces: no surface faces an {kind} environment "
+                         f"({names}), {consequence}; give the {kind} side a [[surfaces]] "
+                         f"table")
+    return out
 
 
 def _check_flanking(check: _Checker, model: Model):

@@ -59,6 +59,10 @@ class Result:
     element : str
     heat_flow_case : HeatFlowCase
     surface_temperature_case : SurfaceTemperatureCase
+    convergence : bridgecalc.convergence.Study or None
+    warnings : list of str
+        What makes the numbers unfit to use as they stand (a side no surface
+        faces); written to results.json, the summary and the report.
     """
 
     model: Model
@@ -67,6 +71,7 @@ class Result:
     heat_flow_case: HeatFlowCase
     surface_temperature_case: SurfaceTemperatureCase
     convergence: object = None
+    warnings: list = dataclasses.field(default_factory=list)
 
     @property
     def psi(self):
@@ -118,6 +123,7 @@ class Result:
             },
             **({"convergence": self.convergence.to_dict()} if self.convergence is not None
                else {}),
+            **({"warnings": list(self.warnings)} if self.warnings else {}),
         }
 
 
@@ -189,12 +195,15 @@ def run(model: Model, mesh_options: MeshOptions | None = None, element: str = "P
 
 def _run(model, mesh_options, element, tolerance, max_nodes, refinement) -> Result:
     model_io.validate(model)
-    model_io.check_both_sides_faced(model)     # these fail before meshing
+    unfaced = model_io.unfaced_sides(model)   # these fail before meshing
+    if "interior" in unfaced:
+        raise ModelError(unfaced["interior"])
     model_io.check_temperature_difference(model, *design_temperatures(model))
+    warnings = [unfaced["exterior"]] if "exterior" in unfaced else []
     if refinement is None:
         mesh = build_mesh(model, mesh_options)
         heat, surface, *_ = _solve_mesh(model, mesh, element)
-        return Result(model, mesh, element, heat, surface)
+        return Result(model, mesh, element, heat, surface, warnings=warnings)
     level_flows, last = [], {}
 
     def solve_level(mesh):
@@ -207,7 +216,7 @@ def _run(model, mesh_options, element, tolerance, max_nodes, refinement) -> Resu
     heat, surface, mesh, study = convergence_study.converge(
         model, mesh_options, element, tolerance, max_nodes, refinement, solve_level)
     _use_best_estimates(model, heat, study, level_flows)
-    return Result(model, mesh, element, heat, surface, study)
+    return Result(model, mesh, element, heat, surface, study, warnings)
 
 
 def _use_best_estimates(model: Model, heat: HeatFlowCase, study, level_flows) -> None:

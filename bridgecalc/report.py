@@ -22,7 +22,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from . import __version__
-from .results import CAUTION, printed_position
+from .results import CAUTION, f_rsi_verdict, printed_position
 
 # -- blocks ---------------------------------------------------------------------
 
@@ -225,13 +225,6 @@ def minimum_at_cut_off(result) -> bool:
     return float(np.linalg.norm(xy - at, axis=1).min()) <= 1e-9 * size
 
 
-def f_rsi_verdict(f_rsi: float, f_rsi_min: float | None) -> str | None:
-    """``"meets"``, ``"fails"`` or None without a criterion (fRsi ≥ fRsi,min meets)."""
-    if f_rsi_min is None:
-        return None
-    return "meets" if f_rsi >= f_rsi_min else "fails"
-
-
 COMMON_PRACTICE = ("Common practice, no single source: fRsi ≥ 0.75 is a usual design "
                    "criterion for dwellings in the UK and 0.70 in Germany; other countries "
                    "and uses differ. The criterion that applies is set by the codes in force "
@@ -298,11 +291,15 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
     at_text = printed_position(model, st["theta_si_min_at"]).replace("-", "−")
     key.items.append(("θsi,min", _n(st["theta_si_min"], 2), "°C",
                       f"at {at_text} {unit}"))
-    verdict = f_rsi_verdict(st["f_rsi"], f_rsi_min)
+    warnings = data.get("warnings", [])
+    verdict = f_rsi_verdict(st["f_rsi"], f_rsi_min, warnings)
     key.items.append(("fRsi", _n(st["f_rsi"], 3), "",
                       "no criterion given" if verdict is None else
                       f"{verdict} fRsi ≥ {_g(f_rsi_min)}"))
     blocks.append(key)
+    for warning in warnings:
+        blocks.append(Para(f"Warning: {warning}. These numbers must not be used as they "
+                           f"stand.", "fail"))
     where = _surface_of_minimum(result)
     where_text = f" on surface S{where + 1}" if where is not None else ""
     if verdict == "meets":
@@ -319,6 +316,10 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
             f"conditions it is at risk of mould growth or surface condensation. Do not "
             f"accept the detail as it is; revise it or have it assessed by a qualified "
             f"practitioner.", "fail"))
+    elif verdict == "not assessed":
+        blocks.append(Para(
+            f"NOT ASSESSED against the criterion given for this run (fRsi ≥ {_g(f_rsi_min)}): "
+            f"the warning above makes this fRsi meaningless.", "fail"))
     else:
         blocks.append(Para(
             f"No fRsi criterion was given for this run (bridgecalc run --f-rsi-min), so no "
@@ -418,7 +419,7 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
     rows.append(["fRsi = (θsi,min − θe)/(θi − θe)", _n(st["f_rsi"], 3), "–"])
     if f_rsi_min is not None:
         rows.append(["fRsi criterion given for this run", _g(f_rsi_min),
-                     "meets" if verdict == "meets" else "FAILS"])
+                     {"meets": "meets", "fails": "FAILS"}.get(verdict, "NOT ASSESSED")])
     for name, value in hf["heat_flow"].items():
         rows.append([f"heat flow from environment {name} (heat-flow case)", _n(value), "W/m"])
     rows.append(["heat-flow balance |Σ Φ| / max |Φ|", f"{hf['balance']:.1e}", "–"])

@@ -155,6 +155,17 @@ class SurfaceTemperatureCase:
     field: object = field(repr=False, default=None)
 
 
+def f_rsi_verdict(f_rsi: float, f_rsi_min: float | None, warnings=()) -> str | None:
+    """The verdict on a criterion fRsi,min [-]: ``"meets"`` (fRsi ≥ fRsi,min),
+    ``"fails"``, ``"not assessed"`` when the result carries warnings (its fRsi
+    may be 1 by construction), or None without a criterion."""
+    if f_rsi_min is None:
+        return None
+    if warnings:
+        return "not assessed"
+    return "meets" if f_rsi >= f_rsi_min else "fails"
+
+
 def printed_position(model: Model, point) -> str:
     """A position [length_unit] as text, to a ten-thousandth of the model's size.
 

@@ -129,8 +129,8 @@ BAD_MODELS = {
                                               "path = [[0, 0], [0, 2000]]"), "surfaces[1]"),
     "no exterior environment": (GOOD.replace('kind = "exterior"', 'kind = "interior"'),
                                 "environments"),
-    "no surface faces the exterior": (GOOD.replace('environment = "outside"',
-                                                   'environment = "inside"'), "surfaces"),
+    "no surface faces the interior": (GOOD.replace('environment = "inside"',
+                                                   'environment = "outside"'), "surfaces"),
     "temperatures 1e-12 K apart": (GOOD.replace("temperature = 0.0",
                                                 "temperature = 19.999999999999"),
                                    "environments"),
@@ -165,6 +165,21 @@ def test_bad_model_exit_2_nothing_written(tmp_path, capsys, case):
     assert "Traceback" not in err
     assert not out.exists()
     assert sorted(p.name for p in tmp_path.iterdir()) == ["detail.toml"]
+
+
+def test_a_model_without_exterior_surface_runs_with_warnings(tmp_path, capsys):
+    """Like the format's own example (one interior surface): exit 0, but the warning
+    reaches stderr, results.json and the report, and no fRsi verdict is given."""
+    model = write(tmp_path, GOOD.replace('environment = "outside"', 'environment = "inside"'))
+    out = tmp_path / "out"
+    assert main(["run", str(model), "--out", str(out), "--f-rsi-min", "0.75"]) == 0
+    err = capsys.readouterr().err
+    assert err.startswith("warning: ") and "no surface faces an exterior environment" in err
+    data = json.loads((out / "results.json").read_text(encoding="utf-8"))
+    assert "no surface faces an exterior environment ('outside')" in data["warnings"][0]
+    page = (out / "report.html").read_text(encoding="utf-8")
+    assert "NOT ASSESSED against the criterion" in page and "PASS" not in page
+    assert "not assessed" in (out / "results.csv").read_text(encoding="utf-8")
 
 
 @pytest.mark.parametrize("argv, needle", [

@@ -507,22 +507,38 @@ def test_pieces_each_touched_by_a_surface_are_allowed():
     M.loads(text_of(data), "detail.toml")
 
 
-@pytest.mark.parametrize("surface, environment, kind, name", [
-    (1, "inside", "exterior", "outside"), (0, "outside", "interior", "inside")])
-def test_a_side_no_surface_faces_reads_but_does_not_run(surface, environment, kind, name):
-    # format 1 does not forbid it (its own example has no exterior surface), but
-    # the run gave L2D = 0, Ψ = −ΣU·l and fRsi = 1 with exit 0
+def test_no_interior_surface_reads_but_does_not_run():
+    # format 1 does not forbid it, but there is no interior surface temperature
     import bridgecalc
     data = base()
-    data["surfaces"][surface]["environment"] = environment
+    data["surfaces"][0]["environment"] = "outside"
     m = M.loads(text_of(data), "detail.toml")
-    expected = re.escape(f"detail.toml: surfaces: no surface faces an {kind} environment "
-                         f"('{name}')")
-    with pytest.raises(ModelError, match=expected):
-        M.check_both_sides_faced(m)
+    expected = re.escape("detail.toml: surfaces: no surface faces an interior environment "
+                         "('inside'), so there is no interior surface temperature")
+    assert re.match(expected, M.unfaced_sides(m)["interior"])
     with pytest.raises(ModelError, match=expected):
         bridgecalc.run(m)
-    M.check_both_sides_faced(M.loads(text_of(base()), "detail.toml"))
+    assert M.unfaced_sides(M.loads(text_of(base()), "detail.toml")) == {}
+
+
+def test_no_exterior_surface_runs_with_a_warning_and_no_verdict():
+    """The format's own example has no exterior surface: it runs, but no heat flows,
+    so L2D = 0 and fRsi = 1 by construction (all the solid sits at θi); the run
+    carries a warning and an fRsi criterion is not assessed, never passed."""
+    import bridgecalc
+    from bridgecalc.results import f_rsi_verdict
+    data = base()
+    data["surfaces"][1]["environment"] = "inside"
+    result = bridgecalc.run(M.loads(text_of(data), "detail.toml"), refinement=None)
+    assert abs(result.coupling_coefficient) < 1e-9
+    assert result.f_rsi == pytest.approx(1.0, abs=1e-9)
+    assert len(result.warnings) == 1
+    assert "no surface faces an exterior environment ('outside')" in result.warnings[0]
+    assert result.to_dict()["warnings"] == result.warnings
+    assert f_rsi_verdict(result.f_rsi, 0.75, result.warnings) == "not assessed"
+    assert f_rsi_verdict(result.f_rsi, 0.75) == "meets"
+    assert "warnings" not in bridgecalc.run(M.loads(text_of(base()), "detail.toml"),
+                                            refinement=None).to_dict()
 
 
 @pytest.mark.parametrize("theta_i, theta_e, accepted", [
