@@ -145,7 +145,7 @@ def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None,
     from .pipeline import run
     f_rsi_min = getattr(args, "f_rsi_min", None)
     isotherm_step = getattr(args, "isotherm_step", None)
-    check_options(f_rsi_min, isotherm_step)          # bad options: exit 2 before any work
+    check_options(f_rsi_min, isotherm_step, model)   # bad options: exit 2 before any work
     from .convergence import DEFAULT_MAX_NODES, DEFAULT_TOLERANCE
     tolerance = getattr(args, "tolerance", None)
     max_nodes = getattr(args, "max_nodes", None)
@@ -235,9 +235,21 @@ def command_sweep(args) -> int:
     return 0 if all(r.ok for r in rows) else 1
 
 
+def _terminated(signum, frame):
+    """SIGTERM as SystemExit, so a run being written removes its staging folder."""
+    from .outputs import STOP
+    STOP["status"] = 128 + signum
+    raise SystemExit(128 + signum)
+
+
 def main(argv=None) -> int:
     """Entry point of the ``bridgecalc`` command."""
+    import signal
+    import threading
     args = _parser().parse_args(argv)
+    previous = None
+    if threading.current_thread() is threading.main_thread():
+        previous = signal.signal(signal.SIGTERM, _terminated)
     try:
         return {"run": command_run, "demo": command_demo, "check": command_check,
                 "sweep": command_sweep}[args.command](args)
@@ -247,6 +259,13 @@ def main(argv=None) -> int:
     except OSError as exc:
         print(f"error: {exc.filename or ''}: {exc.strerror or exc}", file=sys.stderr)
         return 2
+    finally:
+        if previous is not None:
+            signal.signal(signal.SIGTERM, previous)
+        from .outputs import STOP
+        if STOP["status"] is not None:         # the exception was swallowed somewhere
+            status, STOP["status"] = STOP["status"], None
+            raise SystemExit(status)
 
 
 if __name__ == "__main__":

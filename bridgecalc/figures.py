@@ -296,10 +296,19 @@ def fit_text(artist, width: float, smallest: float = 6.0) -> None:
     if have <= width:
         return
     artist.set_fontsize(max(smallest, artist.get_fontsize() * width / have * 0.98))
+    if text_width(artist) <= width:
+        return
+    # the longest start of the text that fits with an ellipsis, by bisection
     text = artist.get_text()
-    while text_width(artist) > width and len(text) > 1:
-        text = text[:-2].rstrip() + "…"
-        artist.set_text(text)
+    fits, too_long = 0, len(text)
+    while too_long - fits > 1:
+        middle = (fits + too_long) // 2
+        artist.set_text(text[:middle].rstrip() + "…")
+        if text_width(artist) <= width:
+            fits = middle
+        else:
+            too_long = middle
+    artist.set_text(text[:fits].rstrip() + "…")
 
 
 def _new_figure(result, title: str, subtitle: str, extent, legend_rows=0,
@@ -703,15 +712,18 @@ def temperature_figure(result, isotherm_step=None, detail=False):
     theta = case.field.nodal
     triangulation = mtri.Triangulation(xy[:, 0], xy[:, 1], mesh.triangles)
     theta_i, theta_e = design_temperatures(model)
-    step = isotherm_step or default_isotherm_step(model)
     lo, hi = float(theta.min()), float(theta.max())
+    asked = isotherm_step or default_isotherm_step(model)
+    lines, step = isotherm_levels(lo, hi, asked)
     extent = _view(result, detail)
     with plt.rc_context(STYLE):
         fig, ax, aspect = _new_figure(
             result, model.name or "junction",
             ("Temperature at the junction (detail)" if detail else "Temperature")
             + f", surface-temperature case (θi = {theta_i:g} °C, θe = {theta_e:g} °C); "
-            f"isotherms every {step:g} K", extent, panel_at_edge=True)
+            f"isotherms every {step:g} K"
+            + (f" (not {asked:g} K: at most {MAX_ISOTHERMS} lines)" if step != asked else ""),
+            extent, panel_at_edge=True)
         _frame(ax, result, extent)
         vmin = min(theta_i, theta_e, lo)
         vmax = max(theta_i, theta_e, hi)
@@ -726,9 +738,6 @@ def temperature_figure(result, isotherm_step=None, detail=False):
                               norm=mcolors.Normalize(vmin=vmin, vmax=vmax),
                               interpolation="bilinear")
         filled.set_gid("temperature-fill")
-        first = math.ceil(lo / step - 1e-9) * step
-        lines = np.arange(first, hi + 1e-9 * step, step)
-        lines = lines[(lines > lo) & (lines < hi)]
         names, codes = _material_codes(result)
         ax.add_artist(segments_path(xy[material_edges(mesh, codes)], edgecolor="white",
                                    linewidth=0.6, alpha=0.7))
@@ -1000,6 +1009,21 @@ def _padded_extent_from_grid(gx, gy):
     return (gx[0] - dx / 2, gy[0] - dy / 2), (gx[-1] + dx / 2, gy[-1] + dy / 2)
 
 
+#: Isotherms drawn at most in one figure; a finer step is coarsened (and says so).
+MAX_ISOTHERMS = 200
+
+
+def isotherm_levels(lo: float, hi: float, step: float):
+    """Isotherm temperatures strictly between ``lo`` and ``hi`` [°C], multiples of ``step``
+    [K], and the step used: ``step``, or past :data:`MAX_ISOTHERMS` lines, the
+    1-2-5 step that keeps within it."""
+    if (hi - lo) / step > MAX_ISOTHERMS:
+        step = nice_step((hi - lo) / MAX_ISOTHERMS)
+    first = math.ceil(lo / step - 1e-9) * step
+    levels = np.arange(first, hi + 1e-9 * step, step)
+    return levels[(levels > lo) & (levels < hi)], step
+
+
 def default_isotherm_step(model) -> float:
     """1, 2 or 5 × 10ⁿ K near a tenth of θi − θe [K]."""
     theta_i, theta_e = design_temperatures(model)
@@ -1007,10 +1031,11 @@ def default_isotherm_step(model) -> float:
 
 
 def _bar_ticks(lo, hi, step):
-    ticks = np.arange(math.ceil(lo / step - 1e-9) * step, hi + 1e-9 * step, step)
-    while len(ticks) > 12:
-        ticks = ticks[::2]
-    return ticks
+    """Colour-bar ticks [°C]: multiples of the isotherm step, doubled until at most 12."""
+    count = (hi - lo) / step
+    if count > 12:
+        step *= 2.0 ** math.ceil(math.log2(count / 12))
+    return np.arange(math.ceil(lo / step - 1e-9) * step, hi + 1e-9 * step, step)
 
 
 def _mark_minimum(ax, result, extent, grid):

@@ -20,6 +20,8 @@ from __future__ import annotations
 
 import contextlib
 import math
+import signal
+import threading
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -125,11 +127,21 @@ class Mesh:
 
 @contextlib.contextmanager
 def _gmsh_session():
-    """A clean gmsh model, quiet and single-threaded (deterministic)."""
+    """A clean gmsh model, quiet and single-threaded (deterministic).
+
+    gmsh's initialisation installs signal handlers of its own (SIGTERM among
+    them: a terminated run then died without removing its staging folder);
+    Python's are put back.
+    """
     import gmsh
     owner = not gmsh.isInitialized()
     if owner:
+        handlers = {sig: signal.getsignal(sig) for sig in (signal.SIGINT, signal.SIGTERM)}
         gmsh.initialize(readConfigFiles=False, interruptible=False)
+        if threading.current_thread() is threading.main_thread():
+            for sig, handler in handlers.items():
+                if handler is not None:
+                    signal.signal(sig, handler)
     gmsh.option.setNumber("General.Terminal", 0)
     gmsh.option.setNumber("General.Verbosity", 1)
     gmsh.option.setNumber("General.NumThreads", 1)

@@ -41,13 +41,27 @@ REPORT_FILE = "report.html"
 REPORT_PDF_FILE = "report.pdf"
 
 
-def results_json(result) -> str:
-    """results.json text: deterministic (fixed key order and float repr)."""
-    return json.dumps(result.to_dict(), indent=2, ensure_ascii=False) + "\n"
+def results_json(result, data=None) -> str:
+    """results.json text: deterministic (fixed key order and float repr) and
+    valid JSON (no NaN or Infinity; ``run`` refuses non-finite results).
+
+    ``data``: ``result.to_dict()`` when the caller has it already.
+    """
+    return json.dumps(result.to_dict() if data is None else data, indent=2,
+                      ensure_ascii=False, allow_nan=False) + "\n"
 
 
-def check_options(f_rsi_min=None, isotherm_step=None) -> None:
+def check_options(f_rsi_min=None, isotherm_step=None, model=None) -> None:
     """Reject options that cannot be honoured, before anything is computed or written.
+
+    Parameters
+    ----------
+    f_rsi_min : float, optional
+        [-]
+    isotherm_step : float, optional
+        [K]; with ``model``, it must give at most
+        :data:`bridgecalc.figures.MAX_ISOTHERMS` isotherms between θe and θi.
+    model : Model, optional
 
     Raises
     ------
@@ -64,6 +78,16 @@ def check_options(f_rsi_min=None, isotherm_step=None) -> None:
                 and isotherm_step > 0):
             raise BridgecalcError(f"--isotherm-step must be a positive number of kelvin, "
                                   f"got {isotherm_step!r}")
+        if model is not None:
+            from .figures import MAX_ISOTHERMS
+            from .results import design_temperatures
+            theta_i, theta_e = design_temperatures(model)
+            if abs(theta_i - theta_e) / isotherm_step > MAX_ISOTHERMS:
+                raise BridgecalcError(
+                    f"--isotherm-step {isotherm_step:g} K would draw "
+                    f"{abs(theta_i - theta_e) / isotherm_step:.3g} isotherms between θe and "
+                    f"θi; give a step of at least {abs(theta_i - theta_e) / MAX_ISOTHERMS:.3g} "
+                    f"K (at most {MAX_ISOTHERMS} isotherms)")
 
 
 # -- figures, possibly in worker processes ------------------------------------------
@@ -250,8 +274,7 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
         workers = default_workers()
     with staged_folder(out_dir) as staging:
         data = result.to_dict()
-        (staging / RESULTS_FILE).write_text(
-            json.dumps(data, indent=2, ensure_ascii=False) + "\n", encoding="utf-8")
+        (staging / RESULTS_FILE).write_text(results_json(result, data), encoding="utf-8")
         _REPORT = (result, staging, {"f_rsi_min": f_rsi_min, "stamp": stamp, "data": data,
                                      "dimension_system": dimension_system})
         helper = _Helper(forked=workers > 1 and _can_fork())
@@ -277,6 +300,14 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
     return out_dir
 
 
+#: Exit status asked for by a termination signal (set by the command line's
+#: handler), or None. The handler raises SystemExit at once, but Python ignores
+#: an exception raised inside an at-fork callback, so a signal arriving while a
+#: worker process is forked would be lost; a folder is therefore never put in
+#: place once this is set.
+STOP: dict = {"status": None}
+
+
 @contextlib.contextmanager
 def staged_folder(out_dir):
     """A staging folder whose files land in ``out_dir`` only if the block succeeds.
@@ -296,13 +327,22 @@ def staged_folder(out_dir):
     staging = Path(tempfile.mkdtemp(prefix=f".{out_dir.name}.", dir=out_dir.parent))
     try:
         yield staging
+        if STOP["status"] is not None:
+            raise SystemExit(STOP["status"])
         umask = os.umask(0)
         os.umask(umask)
         os.chmod(staging, 0o777 & ~umask)
         if not out_dir.exists():
             os.replace(staging, out_dir)
         else:
-            for item in staging.iterdir():
+            items = sorted(staging.iterdir())
+            # every file must be able to replace its namesake before any does
+            for item in items:
+                if (out_dir / item.name).is_dir():
+                    raise BridgecalcError(f"--out {out_dir}: {out_dir / item.name} is a "
+                                          f"folder, so the run's {item.name} cannot replace "
+                                          f"it; move it away or choose another --out")
+            for item in items:
                 os.replace(item, out_dir / item.name)
             staging.rmdir()
     except BaseException:

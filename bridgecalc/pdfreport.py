@@ -78,7 +78,18 @@ def _styles():
     }
 
 
+#: A table cell longer than this [characters] is shortened in the PDF: a row
+#: must fit on a page (report.html and results.json keep the whole text).
+CELL_CHARACTERS = 400
+
+
 def _text(value: str) -> str:
+    return escape(value)
+
+
+def _cell(value: str, limit: int = CELL_CHARACTERS) -> str:
+    if len(value) > limit:
+        value = value[:limit] + "… (shortened; whole in report.html)"
     return escape(value)
 
 
@@ -105,7 +116,8 @@ def _flowables(report: Report, width: float, placed: list):
                 style = s["body"]
                 if block.tone == "fail":
                     style = s["head"].clone("failbody", fontSize=9, leading=12.5)
-                box = RLTable([[Paragraph(_text(block.text), style)]], colWidths=[width])
+                box = RLTable([[Paragraph(_cell(block.text, 5 * CELL_CHARACTERS), style)]],
+                              colWidths=[width])
                 box.setStyle(TableStyle([
                     ("BACKGROUND", (0, 0), (-1, -1), HexColor(fill)),
                     ("LINEBEFORE", (0, 0), (0, -1), 4, HexColor(edge)),
@@ -120,7 +132,7 @@ def _flowables(report: Report, width: float, placed: list):
             cells = [[Paragraph(_text(label), s["keylabel"]),
                       Paragraph(f"{_text(value)} <font size=8 name={FONT}>{_text(unit)}</font>",
                                 s["keyvalue"]),
-                      Paragraph(_text(note), s["keylabel"])]
+                      Paragraph(_cell(note), s["keylabel"])]
                      for label, value, unit, note in block.items]
             n = len(cells)
             grid = RLTable([cells], colWidths=[width / n] * n)
@@ -137,7 +149,7 @@ def _flowables(report: Report, width: float, placed: list):
             widths = [width * w / total for w in weights]
             rows = [[Paragraph(_text(h), s["head"]) for h in block.header]]
             for row in block.rows:
-                rows.append([Paragraph(_text(c), s["cellnum" if i in block.numeric else "cell"])
+                rows.append([Paragraph(_cell(c), s["cellnum" if i in block.numeric else "cell"])
                              for i, c in enumerate(row)])
             table = RLTable(rows, colWidths=widths, repeatRows=1)
             table.setStyle(TableStyle([

@@ -203,7 +203,7 @@ def _run(model, mesh_options, element, tolerance, max_nodes, refinement) -> Resu
     if refinement is None:
         mesh = build_mesh(model, mesh_options)
         heat, surface, *_ = _solve_mesh(model, mesh, element)
-        return Result(model, mesh, element, heat, surface, warnings=warnings)
+        return _checked(Result(model, mesh, element, heat, surface, warnings=warnings))
     level_flows, last = [], {}
 
     def solve_level(mesh):
@@ -216,7 +216,40 @@ def _run(model, mesh_options, element, tolerance, max_nodes, refinement) -> Resu
     heat, surface, mesh, study = convergence_study.converge(
         model, mesh_options, element, tolerance, max_nodes, refinement, solve_level)
     _use_best_estimates(model, heat, study, level_flows)
-    return Result(model, mesh, element, heat, surface, study, warnings)
+    return _checked(Result(model, mesh, element, heat, surface, study, warnings))
+
+
+#: A balance |Σ Φ| / max |Φ| above this means the linear system was not solved
+#: to any useful accuracy (a sound solve gives 1e-9 or better).
+BALANCE_LIMIT = 1e-6
+
+
+def _checked(result: Result) -> Result:
+    """Refuse a result that is not finite; warn of one whose heat flows do not balance.
+
+    Inputs at the edge of floating point (a U-value of 1e308, a conductivity
+    of 1e30 against 0.035) give an infinite Ψ, or a solution that does not
+    conserve heat; neither must pass for a result.
+    """
+    model = result.model
+    hf, st = result.heat_flow_case, result.surface_temperature_case
+    numbers = {"L2D": hf.coupling_coefficient, "θsi,min": st.theta_si_min, "fRsi": st.f_rsi,
+               **{f"heat flow {name}": flow for name, flow in hf.heat_flow.items()},
+               **({"Ψ": hf.psi} if hf.psi is not None else {}),
+               **{f"U of {f.name}": f.u_value for f in hf.flanking}}
+    bad = [f"{name} = {value}" for name, value in numbers.items() if not np.isfinite(value)]
+    if bad:
+        raise ModelError(f"{model.origin}: the result is not a finite number ({', '.join(bad)}); "
+                         f"an input is out of any physical range: check conductivities, "
+                         f"U-values, lengths, heat sources and temperatures")
+    no_exterior = "exterior" in model_io.unfaced_sides(model)    # no flow to balance
+    if not (hf.balance <= BALANCE_LIMIT) and not no_exterior:
+        result.warnings.append(
+            f"{model.origin}: the heat flows do not balance (|Σ Φ| / max |Φ| = "
+            f"{hf.balance:.1e}, where a sound solution gives 1e-9 or less): the linear system "
+            f"could not be solved accurately, as with conductivities many orders of magnitude "
+            f"apart; check the materials")
+    return result
 
 
 def _use_best_estimates(model: Model, heat: HeatFlowCase, study, level_flows) -> None:

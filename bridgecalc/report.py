@@ -551,7 +551,8 @@ table { border-collapse: collapse; width: 100%; margin: .4rem 0 1rem; font-size:
 caption { caption-side: bottom; text-align: left; color: var(--muted); font-size: .8rem;
           padding-top: .3rem; }
 th, td { padding: .3rem .5rem; border-bottom: 1px solid var(--rule); text-align: left;
-         vertical-align: top; }
+         vertical-align: top; overflow-wrap: anywhere; }
+h1, p { overflow-wrap: anywhere; }
 thead th { border-bottom: 2px solid var(--ink); font-weight: bold; }
 td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
 figure { margin: 1rem 0 1.6rem; page-break-inside: avoid; }

@@ -182,6 +182,29 @@ def test_a_model_without_exterior_surface_runs_with_warnings(tmp_path, capsys):
     assert "not assessed" in (out / "results.csv").read_text(encoding="utf-8")
 
 
+def test_a_result_that_is_not_finite_is_refused(tmp_path, capsys):
+    # U = 1e308 over 2 m gave Ψ = −inf, written to results.json as invalid JSON
+    model = write(tmp_path, GOOD.replace("u_value = 0.2", "u_value = 1e308"))
+    out = tmp_path / "out"
+    assert main(["run", str(model), "--out", str(out)]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("error: ") and "not a finite number (Ψ = -inf)" in err
+    assert not out.exists()
+
+
+def test_heat_flows_that_do_not_balance_are_a_warning(tmp_path, capsys):
+    """λ = 1e30 against 0.035 is beyond double precision: the solve returns a field
+    whose heat flows do not balance (ISO 10211 asks the sum of flows to be zero)."""
+    model = write(tmp_path, GOOD.replace("conductivity = 2.3", "conductivity = 1e30"))
+    out = tmp_path / "out"
+    assert main(["run", str(model), "--out", str(out), "--f-rsi-min", "0.75"]) == 0
+    err = capsys.readouterr().err
+    assert "warning: " in err and "the heat flows do not balance" in err
+    data = json.loads((out / "results.json").read_text(encoding="utf-8"))
+    assert data["heat_flow_case"]["balance"] > 1e-6
+    assert any("do not balance" in w for w in data["warnings"])
+
+
 @pytest.mark.parametrize("argv, needle", [
     (["run", "missing.toml"], "missing.toml"),
     (["run", "{script}", "--set", "no_such_parameter=1"], "no_such_parameter"),

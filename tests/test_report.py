@@ -266,6 +266,72 @@ def test_cli_rejects_a_bad_criterion_with_exit_2(geometries, tmp_path, capsys):
     assert not out.exists()
 
 
+def test_an_isotherm_step_too_fine_is_refused_before_solving(geometries, tmp_path, capsys,
+                                                              monkeypatch):
+    # 1e-9 K over θi − θe = 20 K asked for 2e10 isotherms (a 140 GiB array)
+    import bridgecalc.pipeline
+    monkeypatch.setattr(bridgecalc.pipeline, "_run", lambda *a: pytest.fail("solved"))
+    out = tmp_path / "out"
+    assert main(["run", str(geometries / "slab_edge.py"), "--out", str(out),
+                 "--isotherm-step", "1e-9"]) == 2
+    err = capsys.readouterr().err
+    assert "--isotherm-step" in err and "at least 0.1 K" in err
+    assert not out.exists()
+
+
+def test_the_temperature_figure_coarsens_a_step_finer_than_its_line_limit():
+    from bridgecalc import figures
+    levels, step = figures.isotherm_levels(0.0, 3e28, 2.0)     # a 1e30 W/m³ heat source
+    assert step == pytest.approx(2e26) and len(levels) <= figures.MAX_ISOTHERMS
+    levels, step = figures.isotherm_levels(0.3, 19.6, 2.0)
+    assert step == 2.0 and list(levels) == pytest.approx([2, 4, 6, 8, 10, 12, 14, 16, 18])
+
+
+def test_an_out_folder_holding_a_folder_of_an_output_name_gets_nothing(demo, tmp_path):
+    out = tmp_path / "out"
+    (out / "results.json").mkdir(parents=True)
+    (out / "notes.txt").write_text("mine", encoding="utf-8")
+    with pytest.raises(BridgecalcError, match="results.json is a folder"):
+        outputs.write_outputs(demo, out, stamp=HAND_STAMP, workers=1)
+    assert sorted(p.name for p in out.iterdir()) == ["notes.txt", "results.json"]
+    assert not any((out / "results.json").iterdir())
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["out"]
+
+
+def test_very_long_names_still_give_a_pdf(geometries, tmp_path):
+    """A 5000-character flanking name made a table row taller than a page
+    (ReportLab's LayoutError); the PDF shortens such a cell, the HTML keeps it."""
+    model = load(geometries / "slab_edge.py")
+    long_name = "external wall " + "w" * 5000
+    model = dataclasses.replace(model, flanking=[dataclasses.replace(model.flanking[0],
+                                                                      name=long_name)])
+    result = run(model, refinement=None)
+    out = outputs.write_outputs(result, tmp_path / "long", stamp=False, workers=1)
+    assert (out / "report.pdf").stat().st_size > 0
+    assert long_name in (out / "report.html").read_text(encoding="utf-8")
+
+
+@pytest.mark.skipif(os.name != "posix", reason="POSIX signals")
+def test_a_terminated_run_leaves_no_staging_folder(geometries, tmp_path):
+    """SIGTERM while the outputs are written: the staging folder goes (gmsh had
+    replaced Python's SIGTERM handler, so the process died leaving it)."""
+    import signal
+    import sys
+    import time
+    proc = subprocess.Popen([sys.executable, "-m", "bridgecalc", "run",
+                             str(geometries / "ground_floor.py"), "--out",
+                             str(tmp_path / "out")],
+                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    deadline = time.monotonic() + 120
+    while not list(tmp_path.glob(".out.*")) and proc.poll() is None:
+        assert time.monotonic() < deadline
+        time.sleep(0.02)
+    assert proc.poll() is None, "finished before its outputs could be interrupted"
+    proc.send_signal(signal.SIGTERM)
+    assert proc.wait(timeout=120) == 128 + signal.SIGTERM
+    assert list(tmp_path.iterdir()) == []
+
+
 def test_a_failure_while_writing_leaves_nothing(demo, tmp_path, monkeypatch):
     def broken(*_, **__):
         raise RuntimeError("disk full")
