@@ -152,9 +152,9 @@ def detail_window(result):
     size = float((hi - lo).max())
     if len(corners) < 3 or size <= 0:
         return None
-    gap = np.sqrt(((corners[:, None, :] - corners[None, :, :]) ** 2).sum(axis=2))
-    np.fill_diagonal(gap, np.inf)
-    crowded = corners[gap.min(axis=1) < 0.1 * size]
+    from scipy.spatial import cKDTree
+    gap = cKDTree(corners).query(corners, k=2)[0][:, 1]      # to the nearest other corner
+    crowded = corners[gap < 0.1 * size]
     if len(crowded) < 3:
         return None
     a, b = crowded.min(axis=0), crowded.max(axis=0)
@@ -255,7 +255,8 @@ def figure_size(name: str, result) -> tuple[float, float]:
     return PAGE_WIDTH, _section_layout(_extent(name, result), _legend_rows(name, result))[4]
 
 
-#: Header [in from the top]: title and subtitle baselines' tops, the rule under them.
+#: Header [in from the top]: the top of the title line, of the subtitle line, and
+#: the rule under them.
 TITLE_AT, SUBTITLE_AT, RULE_AT = 0.12, 0.33, 0.5
 
 
