@@ -61,8 +61,9 @@ class Result:
     surface_temperature_case : SurfaceTemperatureCase
     convergence : bridgecalc.convergence.Study or None
     warnings : list of str
-        What makes the numbers unfit to use as they stand (a side no surface
-        faces); written to results.json, the summary and the report.
+        What makes the numbers unfit to use as they stand (no surface facing
+        the exterior, heat flows that do not balance); written to
+        results.json, the summary and the report.
     """
 
     model: Model
