@@ -551,8 +551,7 @@ table { border-collapse: collapse; width: 100%; margin: .4rem 0 1rem; font-size:
 caption { caption-side: bottom; text-align: left; color: var(--muted); font-size: .8rem;
           padding-top: .3rem; }
 th, td { padding: .3rem .5rem; border-bottom: 1px solid var(--rule); text-align: left;
-         vertical-align: top; overflow-wrap: anywhere; }
-h1, p { overflow-wrap: anywhere; }
+         vertical-align: top; }
 thead th { border-bottom: 2px solid var(--ink); font-weight: bold; }
 td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
 figure { margin: 1rem 0 1.6rem; page-break-inside: avoid; }
@@ -564,10 +563,28 @@ nav a { color: var(--ink); margin-right: .9rem; }
 """
 
 
+#: Runs of this many characters without a space get break opportunities in HTML.
+UNBROKEN_RUN = 30
+
+
+def _breakable(text: str) -> str:
+    """``text`` escaped for HTML, with ``<wbr>`` every :data:`UNBROKEN_RUN`
+    characters inside longer runs without spaces (a 5000-character name must
+    not widen the page); ordinary words are left whole."""
+    out = []
+    for k, part in enumerate(re.split(rf"(\S{{{UNBROKEN_RUN},}})", text)):
+        if k % 2:
+            out.append("<wbr>".join(html.escape(part[i:i + UNBROKEN_RUN])
+                                    for i in range(0, len(part), UNBROKEN_RUN)))
+        else:
+            out.append(html.escape(part))
+    return "".join(out)
+
+
 def _html_block(block) -> str:
-    e = html.escape
+    e = _breakable
     if isinstance(block, Heading):
-        anchor = f' id="{e(block.anchor)}"' if block.anchor else ""
+        anchor = f' id="{html.escape(block.anchor)}"' if block.anchor else ""
         return f"<h{block.level}{anchor}>{e(block.text)}</h{block.level}>"
     if isinstance(block, Para):
         cls = f' class="{block.tone}"' if block.tone != "normal" else ""
@@ -588,7 +605,8 @@ def _html_block(block) -> str:
         return f"<table>{caption}<thead><tr>{head}</tr></thead><tbody>{body}</tbody></table>"
     if isinstance(block, Figure):
         encoded = base64.b64encode(block.png.read_bytes()).decode("ascii")
-        return (f'<figure id="figure-{e(block.name)}"><img alt="{e(block.name)} figure" '
+        name = html.escape(block.name)
+        return (f'<figure id="figure-{name}"><img alt="{name} figure" '
                 f'src="data:image/png;base64,{encoded}">'
                 f"<figcaption>{e(block.caption)}</figcaption></figure>")
     raise TypeError(f"unknown report block {block!r}")
@@ -603,5 +621,6 @@ def render_html(report: Report) -> str:
     return (f'<!DOCTYPE html>\n<html lang="en"><head><meta charset="utf-8">'
             f'<meta name="viewport" content="width=device-width, initial-scale=1">'
             f"<title>{e(report.title)}</title><style>{CSS}</style></head><body><main>"
-            f"<header><h1>{e(report.title)}</h1><p class=\"sub\">{e(report.subtitle)}</p>"
+            f"<header><h1>{_breakable(report.title)}</h1>"
+            f"<p class=\"sub\">{_breakable(report.subtitle)}</p>"
             f"<nav>{nav}</nav></header>\n{body}\n</main></body></html>\n")
