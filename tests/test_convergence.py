@@ -48,6 +48,20 @@ def test_extrapolation_refuses_oscillating_sequences():
     assert ex.value == 1.05 and ex.error_estimate == pytest.approx(0.3)
 
 
+def test_changes_within_the_solution_round_off_are_mesh_independence():
+    """Changes between levels below ten times the heat-flow imbalance (the
+    round-off of the solution) are round-off: the finest value is taken, its
+    estimate at least that round-off. Without such noise the same changes are
+    an oscillating sequence, with no fit (algebra, no external reference needed)."""
+    nodes, values = [100, 200, 400], [1.0 + 3e-8, 1.0 - 1e-8, 1.0 + 2e-8]
+    quiet = convergence.extrapolate(nodes, values, 1.0, noise=1e-6)
+    assert quiet.fitted and quiet.value == values[-1]
+    assert quiet.error_estimate >= 1e-6
+    assert not convergence.extrapolate(nodes, values, 1.0).fitted       # oscillating
+    exact = convergence.extrapolate(nodes, [2.0, 2.0, 2.0], 1.0)
+    assert exact.fitted and exact.error_estimate == 0.0
+
+
 def case1_split_model():
     """Case 1 with the cold sides as three environments, so the flow through
     the bottom side (opposite the hot one) is reported on its own."""
