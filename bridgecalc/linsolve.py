@@ -24,7 +24,15 @@ by size and by what is installed:
   chain, where a direct factor costs too much memory.
 
 Iterative solves are checked: one that does not reach :data:`CG_TOLERANCE`
-falls back to a direct factor instead of returning an unconverged field.
+within its iteration limit falls back to a direct factor instead of
+returning an unconverged field, and later solves of the same system size
+(the second calculation case) go to the direct factor at once. The
+multigrid limit is low (:data:`MULTIGRID_MAX_ITERATIONS`) and foreseen from
+the rate so far: on these 2D systems of 6 000 to 53 000 unknowns a direct
+factor (SuperLU or PARDISO) costs as much as 35 to 60 multigrid iterations
+(measured), the shipped junctions need 11 to 30, and needle elements across
+foils, liners and membranes need 90 to several hundred (point Gauss–Seidel
+cannot smooth errors constant across a sheet the needles tie together).
 
 All choices give the same answer to round-off; a test compares them.
 """
@@ -50,8 +58,15 @@ MULTIGRID_FROM = 5_000
 MULTIGRID_COARSENING = 3.0
 #: Relative residual ‖b − Ax‖/‖b‖ an iterative solve must reach [-].
 CG_TOLERANCE = 1e-10
-#: Iterations after which an iterative solve is declared failed.
+#: Iterations after which an AMG-preconditioned solve is declared failed.
 CG_MAX_ITERATIONS = 500
+#: Iterations after which a multigrid-preconditioned solve gives way to a
+#: direct factor: about what one costs, twice what the shipped junctions
+#: need (11–30) [-].
+MULTIGRID_MAX_ITERATIONS = 60
+#: Every this many iterations a multigrid-preconditioned solve checks whether
+#: its mean rate so far would need more than MULTIGRID_MAX_ITERATIONS [-].
+FORESIGHT = 10
 
 _AVAILABLE: dict[str, bool] = {}
 
@@ -129,6 +144,7 @@ class SPDSolver:
         self._amg = None
         self._multigrid = None
         self._cholmod_symbolic = None
+        self._direct_for: tuple | None = None   # shape an iterative solve failed on
         self.iterations = 0
 
     def __getstate__(self):
@@ -154,6 +170,11 @@ class SPDSolver:
         n = matrix.shape[0]
         chain = bool(prolongations) and prolongations[0].shape[0] == n
         backend = choose(n, self.backend, chain)
+        if backend in ("multigrid", "amg") and self._direct_for == matrix.shape:
+            # it failed on this system already (the other calculation case)
+            self.iterations = 0
+            self.used = f"superlu (after {backend} did not converge)"
+            return _superlu(matrix, rhs)
         self.used = backend
         if backend == "pardiso":
             return _pardiso(matrix, rhs)
@@ -162,7 +183,8 @@ class SPDSolver:
         if backend == "multigrid":
             if self._multigrid is None or self._multigrid.shape != matrix.shape:
                 self._multigrid = Multigrid(matrix, prolongations)
-            return self._cg(matrix, rhs, self._multigrid.preconditioner(), initial)
+            return self._cg(matrix, rhs, self._multigrid.preconditioner(), initial,
+                            MULTIGRID_MAX_ITERATIONS, foresee=True)
         if backend == "amg":
             return self._amg_cg(matrix, rhs, initial)
         return _superlu(matrix, rhs)
@@ -184,16 +206,29 @@ class SPDSolver:
                 postsmoother=("gauss_seidel", {"sweep": "symmetric"}))
         return self._cg(matrix, rhs, self._amg.aspreconditioner(cycle="V"), initial)
 
-    def _cg(self, matrix, rhs, preconditioner, initial=None):
-        """Preconditioned CG with a checked residual, or a direct fallback."""
-        x, iterations = conjugate_gradients(matrix, rhs, preconditioner, CG_TOLERANCE,
-                                            CG_MAX_ITERATIONS, initial)
-        self.iterations = CG_MAX_ITERATIONS if iterations is None else iterations
+    def _cg(self, matrix, rhs, preconditioner, initial=None, limit=None, foresee=False):
+        """Preconditioned CG with a checked residual, or a direct fallback.
+
+        ``self.iterations`` is the number of iterations spent, also when the
+        solve gave up (one application of the preconditioner each).
+        """
+        limit = CG_MAX_ITERATIONS if limit is None else limit
+        apply = preconditioner.matvec if hasattr(preconditioner, "matvec") else preconditioner
+        applied = [0]
+
+        def counted(r):
+            applied[0] += 1
+            return apply(r)
+
+        x, iterations = conjugate_gradients(matrix, rhs, counted, CG_TOLERANCE, limit, initial,
+                                            foresee)
+        self.iterations = iterations if iterations is not None else applied[0]
         norm_b = float(np.sqrt(_dot(rhs, rhs)))
         relative = 0.0 if norm_b == 0.0 else float(np.sqrt(_dot(r := rhs - matrix @ x, r))) / norm_b
         if iterations is None or relative > 10 * CG_TOLERANCE:
             # never return an unconverged field: fall back to a direct factor
             self.used = f"superlu (after {self.used} did not converge)"
+            self._direct_for = matrix.shape
             return _superlu(matrix, rhs)
         return x
 
@@ -204,7 +239,7 @@ def _dot(a: np.ndarray, b: np.ndarray) -> float:
 
 
 def conjugate_gradients(matrix, rhs, preconditioner, rtol: float, max_iterations: int,
-                        initial=None):
+                        initial=None, foresee: bool = False):
     """Preconditioned conjugate gradients (Hestenes & Stiefel, J. Res.
     Nat. Bur. Standards 49, 1952; the preconditioned form as in Saad, *Iterative
     Methods for Sparse Linear Systems*, 2nd ed., SIAM 2003, Algorithm 9.1).
@@ -221,6 +256,10 @@ def conjugate_gradients(matrix, rhs, preconditioner, rtol: float, max_iterations
     max_iterations : int
     initial : ndarray, optional
         Starting guess (default zero).
+    foresee : bool
+        Give up early, every :data:`FORESIGHT` iterations, when the mean
+        residual reduction per iteration so far predicts more than
+        ``max_iterations`` in all (the caller has a faster way then).
 
     Returns
     -------
@@ -243,13 +282,21 @@ def conjugate_gradients(matrix, rhs, preconditioner, rtol: float, max_iterations
     z = apply(r)
     p = z.copy()
     rz = _dot(r, z)
+    start = np.sqrt(_dot(r, r))
     for k in range(1, max_iterations + 1):
         q = matrix @ p
         alpha = rz / _dot(p, q)
         x += alpha * p
         r -= alpha * q
-        if np.sqrt(_dot(r, r)) <= limit:
+        norm = np.sqrt(_dot(r, r))
+        if norm <= limit:
             return x, k
+        if foresee and k % FORESIGHT == 0:
+            rate = (norm / start) ** (1.0 / k)          # mean reduction per iteration
+            if rate >= 1.0 or k + np.log(limit / norm) / np.log(rate) > max_iterations:
+                return x, None
+        if k == max_iterations:
+            break
         z = apply(r)
         rz, rz_old = _dot(r, z), rz
         p *= rz / rz_old
