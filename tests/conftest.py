@@ -1,5 +1,7 @@
 """Shared fixtures: paths and small models."""
 
+import functools
+import importlib.util
 from pathlib import Path
 
 import numpy as np
@@ -17,6 +19,17 @@ def root() -> Path:
 @pytest.fixture(scope="session")
 def geometries() -> Path:
     return GEOMETRIES
+
+
+@functools.cache
+def thin_layer_models():
+    """benchmarks/bench_thin_layers.py as a module: its wall models (liners,
+    foils, membranes, sheets) and tensor-grid reference serve the tests too."""
+    spec = importlib.util.spec_from_file_location("bench_thin_layers",
+                                                  ROOT / "benchmarks" / "bench_thin_layers.py")
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module
 
 
 def triangle_angles(nodes, triangles) -> np.ndarray:

@@ -13,7 +13,7 @@ from bridgecalc.errors import ModelError
 from bridgecalc.mesh import MeshOptions, build_mesh
 from bridgecalc.model import loads
 
-from conftest import triangle_angles
+from conftest import thin_layer_models, triangle_angles
 
 
 @pytest.fixture(scope="module")
@@ -124,20 +124,8 @@ def test_partial_surface_path_splits_the_side():
 # independent reference in tests/test_thin_layers.py.
 
 
-
-def _bench():
-    """benchmarks/bench_thin_layers.py as a module: its models are the tests' too."""
-    import importlib.util
-    from conftest import ROOT
-    spec = importlib.util.spec_from_file_location("bench_thin_layers",
-                                                  ROOT / "benchmarks" / "bench_thin_layers.py")
-    module = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(module)
-    return module
-
-
 def _thin_wall(liner=1.0, sloped=False):
-    b = _bench()
+    b = thin_layer_models()
     if sloped:
         return loads(b.models()["sloped sheet 0.5 mm"])
     return loads(b.wall_text("liner", [("concrete", 200 - liner), ("steel", liner),
@@ -243,7 +231,7 @@ def test_thin_layers_off_by_default_and_for_shapes_that_are_no_strip():
     plain = build_mesh(model, dataclasses.replace(convergence.FIRST_MESH,
                                                   thin_aspect=math.inf))
     assert plain.node_count > 10 * build_mesh(model, convergence.FIRST_MESH).node_count
-    text = _bench().wall_text(
+    text = thin_layer_models().wall_text(
         "L", [("concrete", 200), ("insulation", 160)], plate=None,
         extra_regions=[("steel", [(200, 500), (300, 500), (300, 501), (201, 501), (201, 1500),
                                   (200, 1500)])])

@@ -20,6 +20,8 @@ from bridgecalc.pipeline import _conditions, material_arrays, run
 from bridgecalc.solve import (ConductionProblem, conduction, floating_part, surface_load,
                               surface_mass)
 
+from conftest import thin_layer_models
+
 
 @pytest.fixture(scope="module")
 def case2_system():
@@ -207,44 +209,6 @@ def test_interpolated_start_saves_iterations():
         assert np.abs(field.temperature - reference).max() <= 1e-8 * np.abs(reference).max()
 
 
-FOIL_WALL = """
-format = 1
-name = "foil wall"
-length_unit = "mm"
-[materials.concrete]
-conductivity = 2.3
-[materials.aluminium]
-conductivity = 160.0
-[materials.insulation]
-conductivity = 0.035
-[[regions]]
-material = "concrete"
-rectangle = [0, 0, 199.99, 2000]
-[[regions]]
-material = "aluminium"
-rectangle = [199.99, 0, 200, 2000]
-[[regions]]
-material = "insulation"
-rectangle = [200, 0, 360, 2000]
-[[environments]]
-name = "inside"
-temperature = 20.0
-kind = "interior"
-[[environments]]
-name = "outside"
-temperature = 0.0
-kind = "exterior"
-[[surfaces]]
-environment = "inside"
-resistance = 0.13
-path = [[0, 0], [0, 2000]]
-[[surfaces]]
-environment = "outside"
-resistance = 0.04
-path = [[360, 0], [360, 2000]]
-"""
-
-
 def test_multigrid_gives_way_early_on_needle_meshes():
     """Needles one element across a 0.01 mm aluminium foil tie its nodes
     together so strongly that Gauss–Seidel smoothing stalls: the multigrid
@@ -258,7 +222,7 @@ def test_multigrid_gives_way_early_on_needle_meshes():
         pytest.skip("pyamg not installed")
     from bridgecalc.convergence import FIRST_MESH
     from bridgecalc.model import loads
-    model = loads(FOIL_WALL)
+    model = loads(thin_layer_models().models()["foil 0.01 mm"])
     mesh = adapt.refine(adapt.refine(adapt.refine(build_mesh(model, FIRST_MESH))))
     lam, q = material_arrays(model, mesh)
     problem = ConductionProblem(mesh, lam, len(model.surfaces), q, solver="multigrid")

@@ -19,7 +19,6 @@ The models are the README's wall (a 10 mm steel plate through the insulation)
 with a steel liner or sheet over the full 2000 mm height: demo data.
 """
 
-import importlib.util
 import math
 
 import pytest
@@ -28,18 +27,10 @@ from bridgecalc.layers import u_value_plane_layers
 from bridgecalc.model import loads
 from bridgecalc.pipeline import run
 
-from conftest import ROOT
+from conftest import thin_layer_models
 
 
-def _bench():
-    spec = importlib.util.spec_from_file_location("bench_thin_layers",
-                                                  ROOT / "benchmarks" / "bench_thin_layers.py")
-    module = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(module)
-    return module
-
-
-BENCH = _bench()
+BENCH = thin_layer_models()
 
 
 @pytest.mark.parametrize("layer", [("steel", 1.0), ("membrane", 0.2), ("aluminium", 0.01)])
