@@ -23,7 +23,6 @@ import json
 import statistics
 import subprocess
 import sys
-import tempfile
 import time
 
 CHILD = r"""

@@ -317,7 +317,7 @@ def test_each_rule_has_a_message_naming_file_table_and_key(change, expected):
     ("format = 1" + "0" * 5000 + "\n", "too many digits"),
 ], ids=["empty", "comment-only", "bare-word", "broken-header", "integer-of-5001-digits"])
 def test_text_that_is_not_a_model(text, expected):
-    with pytest.raises(ModelError, match=re.escape(f"detail.toml: ") + ".*" + expected):
+    with pytest.raises(ModelError, match=re.escape("detail.toml: ") + ".*" + expected):
         M.loads(text, "detail.toml")
 
 
