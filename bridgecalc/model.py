@@ -33,6 +33,10 @@ LENGTH_UNITS = {"mm": 1e-3, "m": 1.0}
 ENVIRONMENT_KINDS = ("interior", "exterior")
 #: 0 K in °C, by the definition of the Celsius scale (ISO 80000-5, from memory).
 ABSOLUTE_ZERO = -273.15
+#: Largest |coordinate| accepted, in the model's length unit [mm or m]: 1000 km
+#: in mm, more than any projected survey grid in m; beyond it squares of
+#: coordinates lose their meaning in the geometry checks (1e200² overflows).
+MAX_COORDINATE = 1e9
 
 Point = tuple[float, float]
 
@@ -361,10 +365,19 @@ class _Checker:
             self.fail(where, f"expected a string, got {_describe(value)}")
         return value
 
+    def coordinate(self, value, where: str) -> float:
+        """Check a coordinate: a finite number within ±:data:`MAX_COORDINATE`."""
+        value = self.number(value, where)
+        if not abs(value) <= MAX_COORDINATE:
+            self.fail(where, f"coordinate {_fmt(value)} lies beyond ±{MAX_COORDINATE:.0e} "
+                             f"length units; draw the section near the origin")
+        return value
+
     def point(self, value, where: str) -> tuple[float, float]:
         if not _is_sequence(value) or len(value) != 2:
             self.fail(where, f"expected a point [x, y], got {_describe(value)}")
-        return (self.number(value[0], f"{where}[0]"), self.number(value[1], f"{where}[1]"))
+        return (self.coordinate(value[0], f"{where}[0]"),
+                self.coordinate(value[1], f"{where}[1]"))
 
     def points(self, value, where: str, minimum: int, what: str) -> list[tuple[float, float]]:
         if not _is_sequence(value):
@@ -518,7 +531,7 @@ def loads(text: str, origin: str = "<string>") -> Model:
             if not _is_sequence(rect) or len(rect) != 4:
                 check.fail(f"{where}.rectangle",
                            f"expected four numbers [x0, y0, x1, y1], got {_describe(rect)}")
-            x0, y0, x1, y1 = (check.number(c, f"{where}.rectangle[{k}]")
+            x0, y0, x1, y1 = (check.coordinate(c, f"{where}.rectangle[{k}]")
                               for k, c in enumerate(rect))
             regions.append(Region.rectangle(material, x0, y0, x1, y1, heat_source))
         else:
