@@ -30,9 +30,11 @@ returning an unconverged field, and later solves of the same system size
 multigrid limit is low (:data:`MULTIGRID_MAX_ITERATIONS`) and foreseen from
 the rate so far: on these 2D systems of 6 000 to 53 000 unknowns a direct
 factor (SuperLU or PARDISO) costs as much as 35 to 60 multigrid iterations
-(measured), the shipped junctions need 11 to 30, and needle elements across
-foils, liners and membranes need 90 to several hundred (point Gauss–Seidel
-cannot smooth errors constant across a sheet the needles tie together).
+(measured), more on larger ones (:func:`multigrid_limit`); the shipped
+junctions need 11 to 30 at the default tolerance (up to 52 at 500 000
+unknowns), and needle elements across foils, liners and membranes need 90 to
+several hundred (point Gauss–Seidel cannot smooth errors constant across a
+sheet the needles tie together).
 
 All choices give the same answer to round-off; a test compares them.
 """
@@ -60,12 +62,18 @@ MULTIGRID_COARSENING = 3.0
 CG_TOLERANCE = 1e-10
 #: Iterations after which an AMG-preconditioned solve is declared failed.
 CG_MAX_ITERATIONS = 500
-#: Iterations after which a multigrid-preconditioned solve gives way to a
-#: direct factor: about what one costs, twice what the shipped junctions
-#: need (11–30) [-].
+#: Iterations after which a multigrid-preconditioned solve of up to
+#: MULTIGRID_LIMIT_SIZE unknowns gives way to a direct factor: about what one
+#: costs there, twice what the shipped junctions need (11–30) [-].
 MULTIGRID_MAX_ITERATIONS = 60
+#: Above this many unknowns the limit grows as √n: a nested-dissection factor
+#: of a 2D mesh costs O(n^1.5) and a V-cycle O(n) (George, SIAM J. Numer. Anal.
+#: 10, 1973, from memory), so a factor is worth more iterations on larger
+#: systems (measured: SuperLU as 120–160 iterations at 126 000 unknowns, 210–
+#: 230 at 503 000, on the ground floor's uniform meshes) [-].
+MULTIGRID_LIMIT_SIZE = 50_000
 #: Every this many iterations a multigrid-preconditioned solve checks whether
-#: its mean rate so far would need more than MULTIGRID_MAX_ITERATIONS [-].
+#: its mean rate so far would need more than :func:`multigrid_limit` [-].
 FORESIGHT = 10
 
 _AVAILABLE: dict[str, bool] = {}
@@ -119,6 +127,13 @@ def choose(n: int, preferred: str | None = None, chain: bool = False) -> str:
         if available(name):
             return name
     return "superlu"
+
+
+def multigrid_limit(n: int) -> int:
+    """Iterations a multigrid-preconditioned solve of ``n`` unknowns may take
+    before it gives way to a direct factor: :data:`MULTIGRID_MAX_ITERATIONS`,
+    times √(n / :data:`MULTIGRID_LIMIT_SIZE`) above that size [-]."""
+    return int(MULTIGRID_MAX_ITERATIONS * max(1.0, n / MULTIGRID_LIMIT_SIZE) ** 0.5)
 
 
 class SolverFailed(RuntimeError):
@@ -184,7 +199,7 @@ class SPDSolver:
             if self._multigrid is None or self._multigrid.shape != matrix.shape:
                 self._multigrid = Multigrid(matrix, prolongations)
             return self._cg(matrix, rhs, self._multigrid.preconditioner(), initial,
-                            MULTIGRID_MAX_ITERATIONS, foresee=True)
+                            multigrid_limit(n), foresee=True)
         if backend == "amg":
             return self._amg_cg(matrix, rhs, initial)
         return _superlu(matrix, rhs)

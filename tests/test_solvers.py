@@ -212,10 +212,9 @@ def test_interpolated_start_saves_iterations():
 def test_multigrid_gives_way_early_on_needle_meshes():
     """Needles one element across a 0.01 mm aluminium foil tie its nodes
     together so strongly that Gauss–Seidel smoothing stalls: the multigrid
-    solve foresees from its rate that it would need more than
-    MULTIGRID_MAX_ITERATIONS, gives way to a direct factor well before them,
-    and the other calculation case on the same matrix goes to the factor at
-    once. Both answers equal SciPy's direct one to the round-off of such a
+    solve foresees from its rate that it would need more than its limit
+    (linsolve.multigrid_limit), gives way to a direct factor well before, and
+    the other calculation case on the same matrix goes to the factor at once. Both answers equal SciPy's direct one to the round-off of such a
     system (two direct solvers differ by 1e-7 K here, 7e-11 K on ISO 10211
     case 2)."""
     if not linsolve.available("multigrid"):
@@ -226,7 +225,8 @@ def test_multigrid_gives_way_early_on_needle_meshes():
     mesh = adapt.refine(adapt.refine(adapt.refine(build_mesh(model, FIRST_MESH))))
     lam, q = material_arrays(model, mesh)
     problem = ConductionProblem(mesh, lam, len(model.surfaces), q, solver="multigrid")
-    for case, spent in ((False, lambda n: 0 < n < linsolve.MULTIGRID_MAX_ITERATIONS),
+    limit = linsolve.multigrid_limit(mesh.node_count)
+    for case, spent in ((False, lambda n: 0 < n < limit),
                         (True, lambda n: n == 0)):
         conditions = _conditions(model, case)
         field = problem.solve(conditions)
