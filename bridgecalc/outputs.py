@@ -106,6 +106,27 @@ def _draw(name, formats=None):
         figures.plt.close(fig)
 
 
+def end_with_parent(parent: int) -> None:
+    """Process-pool initializer: this worker ends when process ``parent`` does.
+
+    A pool's workers wait on a queue the parent feeds; killed outright
+    (SIGKILL, out-of-memory), the parent cannot stop them and they would wait
+    for ever. On Linux the kernel sends them SIGKILL when it dies
+    (prctl PR_SET_PDEATHSIG); a parent already gone before that ends the
+    worker at once. Elsewhere nothing changes.
+    """
+    if sys.platform.startswith("linux"):
+        import ctypes
+        import signal
+        try:
+            libc = ctypes.CDLL(None, use_errno=True)
+            libc.prctl(1, int(signal.SIGKILL), 0, 0, 0)      # 1: PR_SET_PDEATHSIG
+        except (OSError, AttributeError):                    # pragma: no cover
+            return
+    if os.getppid() != parent:
+        os._exit(1)
+
+
 def _can_fork() -> bool:
     return sys.platform.startswith("linux") and "fork" in multiprocessing.get_all_start_methods()
 
@@ -153,7 +174,9 @@ def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=Non
             tasks += [(n, None) for n in names if n not in {t[0] for t in tasks}]
             figures.prepare()                 # once here, not once per worker
             context = multiprocessing.get_context("fork")
-            with ProcessPoolExecutor(max_workers=workers, mp_context=context) as pool:
+            with ProcessPoolExecutor(max_workers=workers, mp_context=context,
+                                     initializer=end_with_parent,
+                                     initargs=(os.getpid(),)) as pool:
                 futures = [pool.submit(_draw, *task) for task in tasks]
                 for future in futures:
                     name, paths = future.result()
@@ -223,7 +246,9 @@ class _Helper:
         self.pool = None
         if forked:
             self.pool = ProcessPoolExecutor(max_workers=1,
-                                            mp_context=multiprocessing.get_context("fork"))
+                                            mp_context=multiprocessing.get_context("fork"),
+                                            initializer=end_with_parent,
+                                            initargs=(os.getpid(),))
 
     def submit(self, fn, *args):
         if self.pool is not None:

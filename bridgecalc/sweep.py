@@ -39,7 +39,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from . import scripts
-from .outputs import staged_folder
+from .outputs import end_with_parent, staged_folder
 from .errors import BridgecalcError
 
 CSV_FILE = "sweep.csv"
@@ -263,8 +263,10 @@ def run_variant(script: str, index: int, params: dict,
         convergence=_convergence_status(result), mesh_nodes=result.mesh.node_count)
 
 
-def _single_threaded_worker():
-    """Process-pool initializer: one thread for gmsh and BLAS in this worker."""
+def _single_threaded_worker(parent: int):
+    """Process-pool initializer: one thread for gmsh and BLAS in this worker,
+    which ends when process ``parent`` does (:func:`outputs.end_with_parent`)."""
+    end_with_parent(parent)
     os.environ.update(SINGLE_THREAD_ENV)
 
 
@@ -427,7 +429,8 @@ def _sweep_local(script, combos, workers, progress, timeout, run_options
     os.environ.update(SINGLE_THREAD_ENV)
     try:
         with ProcessPoolExecutor(max_workers=workers, mp_context=context,
-                                 initializer=_single_threaded_worker) as pool:
+                                 initializer=_single_threaded_worker,
+                                 initargs=(os.getpid(),)) as pool:
             futures = {pool.submit(run_variant, script, i, params, run_options): (i, params)
                        for i, params in enumerate(combos)}
             report = _reporter(progress, len(combos))
