@@ -28,9 +28,11 @@ import math
 import multiprocessing
 import os
 import shutil
+import socket
 import sys
 import tempfile
 from concurrent.futures import Future, ProcessPoolExecutor
+from glob import escape as glob_escape
 from pathlib import Path
 
 from . import __version__
@@ -349,7 +351,9 @@ def staged_folder(out_dir):
     """
     out_dir = Path(out_dir)
     out_dir.parent.mkdir(parents=True, exist_ok=True)
-    staging = Path(tempfile.mkdtemp(prefix=f".{out_dir.name}.", dir=out_dir.parent))
+    _remove_abandoned_staging(out_dir)
+    staging = Path(tempfile.mkdtemp(prefix=_staging_prefix(out_dir) + f"{os.getpid()}.",
+                                    dir=out_dir.parent))
     try:
         yield staging
         if STOP["status"] is not None:
@@ -373,6 +377,31 @@ def staged_folder(out_dir):
     except BaseException:
         shutil.rmtree(staging, ignore_errors=True)
         raise
+
+
+def _staging_prefix(out_dir: Path) -> str:
+    """Start of the names of staging folders for ``out_dir`` made on this
+    machine; the process id and a random part follow."""
+    host = "".join(c if c.isalnum() or c == "-" else "_" for c in socket.gethostname())
+    return f".{out_dir.name}.{host or 'host'}."
+
+
+def _remove_abandoned_staging(out_dir: Path) -> None:
+    """Remove staging folders for ``out_dir`` left by runs killed outright
+    (SIGKILL, out of memory), which could not remove their own: those made on
+    this machine by a process that no longer exists. Folders of live
+    processes, and of other machines sharing the file system, are kept."""
+    prefix = _staging_prefix(out_dir)
+    for folder in out_dir.parent.glob(glob_escape(prefix) + "*"):
+        pid_text = folder.name[len(prefix):].split(".", 1)[0]
+        if not (folder.is_dir() and not folder.is_symlink() and pid_text.isdigit()):
+            continue
+        try:
+            os.kill(int(pid_text), 0)
+        except ProcessLookupError:
+            shutil.rmtree(folder, ignore_errors=True)
+        except (PermissionError, OverflowError, OSError):
+            pass                       # alive under another user, or not a pid here
 
 
 def fresh_folder(base: Path) -> Path:

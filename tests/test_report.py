@@ -380,6 +380,30 @@ if __name__ == "__main__":
             pytest.fail(f"{method} worker {worker} outlived its killed parent")
 
 
+def test_staging_folders_of_killed_runs_are_removed(tmp_path):
+    """A run killed outright leaves its staging folder; the next run to the
+    same --out removes it, when it was made on this machine by a process
+    that no longer exists, and keeps those of live processes and of other
+    machines (a shared file system)."""
+    done = subprocess.run([sys.executable, "-c", "import os; print(os.getpid())"],
+                          capture_output=True, text=True, check=True)
+    dead = int(done.stdout)                        # exited: no such process now
+    out = tmp_path / "out"
+    prefix = outputs._staging_prefix(out)
+    abandoned = tmp_path / f"{prefix}{dead}.abc123"
+    live = tmp_path / f"{prefix}{os.getpid()}.def456"
+    elsewhere = tmp_path / f".out.other-machine.{dead}.ghi789"
+    for folder in (abandoned, live, elsewhere):
+        folder.mkdir()
+        (folder / "results.json").write_text("{}")
+    with outputs.staged_folder(out) as staging:
+        assert staging.name.startswith(f"{prefix}{os.getpid()}.")
+        (staging / "results.csv").write_text("a\n")
+    assert not abandoned.exists()
+    assert live.exists() and elsewhere.exists()
+    assert (out / "results.csv").read_text() == "a\n"
+
+
 def test_a_failure_while_writing_leaves_nothing(demo, tmp_path, monkeypatch):
     def broken(*_, **__):
         raise RuntimeError("disk full")
