@@ -204,7 +204,8 @@ def _run(model, mesh_options, element, tolerance, max_nodes, refinement) -> Resu
     if refinement is None:
         mesh = build_mesh(model, mesh_options)
         heat, surface, *_ = _solve_mesh(model, mesh, element)
-        return _checked(Result(model, mesh, element, heat, surface, warnings=warnings))
+        return _checked(Result(model, mesh, element, heat, surface, warnings=warnings),
+                        "exterior" in unfaced)
     level_flows, last = [], {}
 
     def solve_level(mesh):
@@ -217,7 +218,8 @@ def _run(model, mesh_options, element, tolerance, max_nodes, refinement) -> Resu
     heat, surface, mesh, study = convergence_study.converge(
         model, mesh_options, element, tolerance, max_nodes, refinement, solve_level)
     _use_best_estimates(model, heat, study, level_flows)
-    return _checked(Result(model, mesh, element, heat, surface, study, warnings))
+    return _checked(Result(model, mesh, element, heat, surface, study, warnings),
+                    "exterior" in unfaced)
 
 
 #: A balance |Σ Φ| / max |Φ| above this means the linear system was not solved
@@ -225,12 +227,13 @@ def _run(model, mesh_options, element, tolerance, max_nodes, refinement) -> Resu
 BALANCE_LIMIT = 1e-6
 
 
-def _checked(result: Result) -> Result:
+def _checked(result: Result, no_exterior: bool) -> Result:
     """Refuse a result that is not finite; warn of one whose heat flows do not balance.
 
     Inputs at the edge of floating point (a U-value of 1e308, a conductivity
     of 1e30 against 0.035) give an infinite Ψ, or a solution that does not
-    conserve heat; neither must pass for a result.
+    conserve heat; neither must pass for a result. ``no_exterior``: no surface
+    faces the exterior, so there is no flow to balance.
     """
     model = result.model
     hf, st = result.heat_flow_case, result.surface_temperature_case
@@ -243,7 +246,6 @@ def _checked(result: Result) -> Result:
         raise ModelError(f"{model.origin}: the result is not a finite number ({', '.join(bad)}); "
                          f"an input is out of any physical range: check conductivities, "
                          f"U-values, lengths, heat sources and temperatures")
-    no_exterior = "exterior" in model_io.unfaced_sides(model)    # no flow to balance
     if not (hf.balance <= BALANCE_LIMIT) and not no_exterior:
         result.warnings.append(
             f"{model.origin}: the heat flows do not balance (|Σ Φ| / max |Φ| = "
