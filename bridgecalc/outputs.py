@@ -84,12 +84,12 @@ def check_options(f_rsi_min=None, isotherm_step=None, model=None) -> None:
             from .figures import MAX_ISOTHERMS
             from .results import design_temperatures
             theta_i, theta_e = design_temperatures(model)
-            if abs(theta_i - theta_e) / isotherm_step > MAX_ISOTHERMS:
+            span = abs(theta_i - theta_e)
+            if span / isotherm_step > MAX_ISOTHERMS:
                 raise BridgecalcError(
                     f"--isotherm-step {isotherm_step:g} K would draw "
-                    f"{abs(theta_i - theta_e) / isotherm_step:.3g} isotherms between θe and "
-                    f"θi; give a step of at least {abs(theta_i - theta_e) / MAX_ISOTHERMS:.3g} "
-                    f"K (at most {MAX_ISOTHERMS} isotherms)")
+                    f"{span / isotherm_step:.3g} isotherms between θe and θi; give a step of "
+                    f"at least {span / MAX_ISOTHERMS:.3g} K (at most {MAX_ISOTHERMS} isotherms)")
 
 
 # -- figures, possibly in worker processes ------------------------------------------
@@ -127,6 +127,13 @@ def end_with_parent(parent: int) -> None:
             return
     if os.getppid() != parent:
         os._exit(1)
+
+
+def _fork_pool(workers: int) -> ProcessPoolExecutor:
+    """A pool of ``workers`` forked processes that end with this one."""
+    return ProcessPoolExecutor(max_workers=workers,
+                               mp_context=multiprocessing.get_context("fork"),
+                               initializer=end_with_parent, initargs=(os.getpid(),))
 
 
 def _can_fork() -> bool:
@@ -175,10 +182,7 @@ def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=Non
             tasks = [t for t in DRAWING_TASKS if t[0] in written]
             tasks += [(n, None) for n in names if n not in {t[0] for t in tasks}]
             figures.prepare()                 # once here, not once per worker
-            context = multiprocessing.get_context("fork")
-            with ProcessPoolExecutor(max_workers=workers, mp_context=context,
-                                     initializer=end_with_parent,
-                                     initargs=(os.getpid(),)) as pool:
+            with _fork_pool(workers) as pool:
                 futures = [pool.submit(_draw, *task) for task in tasks]
                 for future in futures:
                     name, paths = future.result()
@@ -247,10 +251,7 @@ class _Helper:
     def __init__(self, forked: bool):
         self.pool = None
         if forked:
-            self.pool = ProcessPoolExecutor(max_workers=1,
-                                            mp_context=multiprocessing.get_context("fork"),
-                                            initializer=end_with_parent,
-                                            initargs=(os.getpid(),))
+            self.pool = _fork_pool(1)
 
     def submit(self, fn, *args):
         if self.pool is not None:
