@@ -1020,9 +1020,13 @@ def isotherm_levels(lo: float, hi: float, step: float):
     1-2-5 step that keeps within it."""
     if (hi - lo) / step > MAX_ISOTHERMS:
         step = nice_step((hi - lo) / MAX_ISOTHERMS)
-    first = math.ceil(lo / step - 1e-9) * step
-    levels = np.arange(first, hi + 1e-9 * step, step)
+    levels = _multiples(lo, hi, step)
     return levels[(levels > lo) & (levels < hi)], step
+
+
+def _multiples(lo: float, hi: float, step: float) -> np.ndarray:
+    """Multiples of ``step`` from ``lo`` to ``hi``, both included to round-off."""
+    return np.arange(math.ceil(lo / step - 1e-9) * step, hi + 1e-9 * step, step)
 
 
 def default_isotherm_step(model) -> float:
@@ -1036,7 +1040,7 @@ def _bar_ticks(lo, hi, step):
     count = (hi - lo) / step
     if count > 12:
         step *= 2.0 ** math.ceil(math.log2(count / 12))
-    return np.arange(math.ceil(lo / step - 1e-9) * step, hi + 1e-9 * step, step)
+    return _multiples(lo, hi, step)
 
 
 def _mark_minimum(ax, result, extent, grid):
