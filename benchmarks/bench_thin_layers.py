@@ -61,7 +61,7 @@ from skfem.helpers import dot, grad
 
 from bridgecalc import linsolve, validation
 from bridgecalc.convergence import FIRST_MESH
-from bridgecalc.model import loads
+from bridgecalc.readers.modelfile import loads
 from bridgecalc.pipeline import load, run
 
 ROOT = Path(__file__).resolve().parent.parent

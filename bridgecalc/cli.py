@@ -90,7 +90,7 @@ def _report_options(parser) -> None:
 def _load(path: str, assignments):
     """The model, and a geometry script's DIMENSION_SYSTEM (None for model files,
     which have no such key); a script is executed once."""
-    from . import scripts
+    from .readers import script as scripts
     from .errors import ModelError
     from .pipeline import load
     source = Path(path)
@@ -213,7 +213,7 @@ def command_sweep(args) -> int:
     """Exit 0 if every variant was computed, 1 if some failed."""
     import time
 
-    from . import scripts
+    from .readers import script as scripts
     from . import sweep as sweeps
     from .outputs import fresh_folder
     source = Path(args.script)

@@ -42,7 +42,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import geometry
+from .model import geometry
 from .errors import ModelError
 from .model import Model
 

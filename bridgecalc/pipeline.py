@@ -11,12 +11,11 @@ from __future__ import annotations
 
 import dataclasses
 from dataclasses import dataclass
-from pathlib import Path
 
 import numpy as np
 
-from . import model as model_io
-from . import scripts
+from .model import rules as model_rules
+from .readers import read
 from .errors import ModelError
 from .linsolve import one_blas_thread
 from .mesh import Mesh, MeshOptions, build_mesh
@@ -40,12 +39,7 @@ def load(path, **params) -> Model:
     **params
         Geometry script parameters overriding its defaults.
     """
-    path = Path(path)
-    if path.suffix == ".py":
-        return scripts.build(path, params)
-    if params:
-        raise ModelError(f"{path}: parameters apply to geometry scripts only, not model files")
-    return model_io.read(path)
+    return read(path, **params)
 
 
 @dataclass
@@ -195,11 +189,11 @@ def run(model: Model, mesh_options: MeshOptions | None = None, element: str = "P
 
 
 def _run(model, mesh_options, element, tolerance, max_nodes, refinement) -> Result:
-    model_io.validate(model)
-    unfaced = model_io.unfaced_sides(model)   # these fail before meshing
+    model_rules.validate(model)
+    unfaced = model_rules.unfaced_sides(model)   # these fail before meshing
     if "interior" in unfaced:
         raise ModelError(unfaced["interior"])
-    model_io.check_temperature_difference(model, *design_temperatures(model))
+    model_rules.check_temperature_difference(model, *design_temperatures(model))
     warnings = [unfaced["exterior"]] if "exterior" in unfaced else []
     if refinement is None:
         mesh = build_mesh(model, mesh_options)

@@ -144,7 +144,7 @@ def _point(p) -> str:
 
 def model_fingerprint(model) -> str:
     """SHA-256 of the model written as a format-1 file: the same inputs, the same digits."""
-    from .model import dumps
+    from .readers.modelfile import dumps
     try:
         text = dumps(model)
     except Exception:           # a model that cannot be written still gets a report

@@ -13,9 +13,10 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import geometry
+from .model import geometry
 from .errors import ModelError
-from .model import Model, flanking_u_value
+from .model import Flanking, Model
+from .physics import iso6946
 
 CAUTION = (
     "Results support, and do not replace, the judgement of a qualified practitioner. "
@@ -81,6 +82,42 @@ def linear_thermal_transmittance(l2d: float, u_lengths) -> float:
 def temperature_factor(theta_si_min: float, theta_i: float, theta_e: float) -> float:
     """fRsi = (θsi,min − θe) / (θi − θe) [-], ISO 10211:2017, 11.2 / ISO 13788."""
     return (theta_si_min - theta_e) / (theta_i - theta_e)
+
+
+def flanking_u_value(model: Model, flanking: Flanking) -> float:
+    """Thermal transmittance Uj of a flanking element [W/(m²·K)].
+
+    The given ``u_value``, or, for a layer stack, U = 1 / (Rsi + ΣRj + Rse)
+    by ISO 6946:2017 Formulae (7)–(9) (:func:`bridgecalc.physics.iso6946.u_value_plane_layers`)
+    with thicknesses converted to metres. A layer of an air-layer material
+    takes R from ISO 6946 Annex D for that layer's own thickness
+    (:func:`bridgecalc.physics.iso6946.air_layer_resistance`). (Rsi, Rse) default to
+    :data:`bridgecalc.physics.iso6946.DEFAULT_SURFACE_RESISTANCES`.
+
+    Parameters
+    ----------
+    model : Model
+        Supplies materials and the length unit.
+    flanking : Flanking
+        One of ``model.flanking`` (or any validated flanking element).
+    """
+    if flanking.u_value is not None:
+        return float(flanking.u_value)
+    scale = model.metres_per_unit
+    resistances = []
+    for layer in flanking.layers:
+        mat = model.materials.get(layer.material)
+        if mat is None:
+            raise ModelError(f"{model.origin}: flanking {flanking.name!r}: material "
+                             f"{layer.material!r} is not defined")
+        d = float(layer.thickness) * scale
+        if mat.air_layer is not None:
+            resistances.append(iso6946.air_layer_resistance(
+                d, mat.air_layer.direction, tuple(mat.air_layer.emissivities)))
+        else:
+            resistances.append(iso6946.thermal_resistance(d, float(mat.conductivity)))
+    rsi, rse = flanking.surface_resistances or iso6946.DEFAULT_SURFACE_RESISTANCES
+    return iso6946.u_value_plane_layers(resistances, float(rsi), float(rse))
 
 
 @dataclass
@@ -170,7 +207,7 @@ def printed_position(model: Model, point) -> str:
     """A position [length_unit] as text, to a ten-thousandth of the model's size.
 
     The one rounding of positions for the summary, the report and the
-    figures (:func:`bridgecalc.geometry.position_text`); results.json keeps
+    figures (:func:`bridgecalc.model.geometry.position_text`); results.json keeps
     every digit.
     """
     size = geometry.largest_dimension([r.vertices for r in model.regions])

@@ -38,7 +38,7 @@ from concurrent.futures import ProcessPoolExecutor, as_completed
 from dataclasses import dataclass
 from pathlib import Path
 
-from . import scripts
+from .readers import script as scripts
 from .outputs import end_with_parent, staged_folder
 from .errors import BridgecalcError
 
@@ -128,12 +128,12 @@ def parse_vary(module, items, origin) -> dict[str, list]:
     START to STOP, both included; numeric parameters only) or
     ``NAME=A,B,C`` (explicit values, e.g. ``thermal_break=false,true``).
     Values are read as the type of the script's default
-    (:func:`bridgecalc.scripts.parse_value`).
+    (:func:`bridgecalc.readers.script.parse_value`).
 
     Parameters
     ----------
     module : module
-        The geometry script (:func:`bridgecalc.scripts.load_module`).
+        The geometry script (:func:`bridgecalc.readers.script.load_module`).
     items : list of str
     origin : str or Path
         Named in messages (the script path).

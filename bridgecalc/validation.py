@@ -34,7 +34,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .layers import u_value_plane_layers
+from .physics.iso6946 import u_value_plane_layers
 from .model import Environment, Flanking, Layer, Material, Model, Probe, Region, Surface
 
 

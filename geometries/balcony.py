@@ -29,7 +29,7 @@ full external height of the model.
 Defaults: the fictional Tarnwick Yard block, see ``docs/scenario.md``.
 """
 
-from bridgecalc.junctions import (EXTERIOR, assemble, check_parameters,
+from bridgecalc.model.junctions import (EXTERIOR, assemble, check_parameters,
                                   cut_off_distance, flanking_from_stack, materials,
                                   require, require_positive, stack_regions,
                                   stack_thickness, surface_along)

@@ -30,7 +30,7 @@ Defaults: the fictional Tarnwick Yard side wing, see ``docs/scenario.md``.
 
 import math
 
-from bridgecalc.junctions import (EXTERIOR, assemble, check_parameters,
+from bridgecalc.model.junctions import (EXTERIOR, assemble, check_parameters,
                                   cut_off_distance, flanking_from_stack, materials,
                                   require, stack_thickness, surface_along)
 from bridgecalc.model import Region

@@ -34,11 +34,11 @@ Defaults: the fictional Tarnwick Yard block, see ``docs/scenario.md``.
 
 import math
 
-from bridgecalc.junctions import (EXTERIOR, MATERIALS_TABLE, assemble, check_parameters,
+from bridgecalc.model.junctions import (EXTERIOR, MATERIALS_TABLE, assemble, check_parameters,
                                   cut_off_distance, flanking_from_stack, materials,
                                   require, require_positive, stack_regions,
                                   stack_thickness, surface_along)
-from bridgecalc.layers import RSE, RSI_DOWNWARD
+from bridgecalc.physics.iso6946 import RSE, RSI_DOWNWARD
 from bridgecalc.model import Flanking, Region
 
 SCRIPT = "ground_floor"

@@ -22,7 +22,7 @@ outside surface; the roof from the wall's outside face to its cut-off.
 Defaults: the fictional Tarnwick Yard main block, see ``docs/scenario.md``.
 """
 
-from bridgecalc.junctions import (EXTERIOR, assemble, check_parameters,
+from bridgecalc.model.junctions import (EXTERIOR, assemble, check_parameters,
                                   cut_off_distance, flanking_from_stack, materials,
                                   require, require_positive, stack_regions,
                                   stack_thickness, surface_along)

@@ -27,7 +27,7 @@ full external height of the model (the floor is not part of the envelope).
 Defaults: the fictional Tarnwick Yard block, see ``docs/scenario.md``.
 """
 
-from bridgecalc.junctions import (EXTERIOR, assemble, check_parameters,
+from bridgecalc.model.junctions import (EXTERIOR, assemble, check_parameters,
                                   cut_off_distance, flanking_from_stack, materials,
                                   require, stack_regions, stack_thickness,
                                   surface_along)

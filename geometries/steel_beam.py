@@ -21,7 +21,7 @@ external lengths agree). Ψ is per metre of column height.
 Defaults: the fictional Tarnwick Yard entrance, see ``docs/scenario.md``.
 """
 
-from bridgecalc.junctions import (EXTERIOR, assemble, check_parameters,
+from bridgecalc.model.junctions import (EXTERIOR, assemble, check_parameters,
                                   cut_off_distance, flanking_from_stack, materials,
                                   require, require_positive, stack_regions,
                                   stack_thickness, surface_along)

@@ -22,7 +22,7 @@ element is the wall clear of studs over one stud spacing.
 Defaults: the fictional Tarnwick Yard top-floor infill, see ``docs/scenario.md``.
 """
 
-from bridgecalc.junctions import (EXTERIOR, assemble, check_parameters,
+from bridgecalc.model.junctions import (EXTERIOR, assemble, check_parameters,
                                   flanking_from_stack, materials, require,
                                   require_positive, stack_regions, surface_along)
 from bridgecalc.model import AirLayer, Region, air_layer_material

@@ -22,7 +22,7 @@ cut-off plane.
 Defaults: the fictional Tarnwick Yard block, see ``docs/scenario.md``.
 """
 
-from bridgecalc.junctions import (EXTERIOR, assemble, check_parameters,
+from bridgecalc.model.junctions import (EXTERIOR, assemble, check_parameters,
                                   cut_off_distance, flanking_from_stack, materials,
                                   require, stack_regions, stack_thickness,
                                   surface_along)

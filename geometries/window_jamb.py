@@ -31,7 +31,7 @@ its ISO 10077-2 calculation.
 Defaults: the fictional Tarnwick Yard block, see ``docs/scenario.md``.
 """
 
-from bridgecalc.junctions import (EXTERIOR, MIN_CUT_OFF_MM, assemble, check_parameters,
+from bridgecalc.model.junctions import (EXTERIOR, MIN_CUT_OFF_MM, assemble, check_parameters,
                                   cut_off_distance, flanking_from_stack, materials,
                                   require, require_positive, stack_regions,
                                   stack_thickness, surface_along)

@@ -208,7 +208,7 @@ def test_error_estimate_covers_true_error_thin_liner():
     (benchmarks/bench_thin_layers.py)."""
     import importlib.util
     from conftest import ROOT
-    from bridgecalc.model import loads
+    from bridgecalc.readers.modelfile import loads
     spec = importlib.util.spec_from_file_location("bench_thin_layers",
                                                   ROOT / "benchmarks" / "bench_thin_layers.py")
     bench = importlib.util.module_from_spec(spec)

@@ -221,7 +221,7 @@ def test_probe_on_outline_corner():
 
 
 def test_written_model_reads_back_to_same_results(balcony, tmp_path):
-    from bridgecalc.model import write
+    from bridgecalc.readers.modelfile import write
     path = tmp_path / "balcony.toml"
     write(balcony, path)
     again = load(path)
@@ -238,8 +238,8 @@ def test_flanking_result_is_ul(balcony):
 
 
 def test_positions_are_printed_to_a_ten_thousandth_of_the_model():
-    """The rounding rule of bridgecalc.geometry.position_text (the tool's own)."""
-    from bridgecalc.geometry import position_text
+    """The rounding rule of bridgecalc.model.geometry.position_text (the tool's own)."""
+    from bridgecalc.model.geometry import position_text
     assert position_text((-6.86813, 150.0), 24400.0) == "(-7, 150)"
     assert position_text((0.0, -1200.0), 2620.0) == "(0, -1200)"
     assert position_text((191.04, 100.0), 2620.0) == "(191, 100)"

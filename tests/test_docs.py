@@ -15,7 +15,7 @@ from pathlib import Path
 
 import pytest
 
-from bridgecalc import model as model_io
+from bridgecalc.readers import modelfile as model_io
 from bridgecalc.cli import main
 
 from conftest import GEOMETRIES, ROOT

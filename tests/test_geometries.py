@@ -30,15 +30,8 @@ import pytest
 from bridgecalc.errors import ModelError
 from bridgecalc.model import Model
 
-try:
-    from bridgecalc import run
-except ImportError:                              # pragma: no cover - early tree
-    try:
-        from bridgecalc.pipeline import run
-    except ImportError:
-        run = None
+from bridgecalc import run
 
-needs_run = pytest.mark.skipif(run is None, reason="bridgecalc.run is not available yet")
 
 GEOMETRIES = Path(__file__).resolve().parent.parent / "geometries"
 FAMILIES = ["slab_edge", "balcony", "wall_corner", "window_jamb", "eaves", "parapet",
@@ -58,11 +51,8 @@ def result(name, **params):
     return run(script(name).build(**params))
 
 
-def validate_or_skip(model):
-    from bridgecalc import model as model_module
-    validate = getattr(model_module, "validate", None)
-    if validate is None:
-        pytest.skip("bridgecalc.model.validate is not available yet")
+def validate_model(model):
+    from bridgecalc.model import validate
     validate(model)
 
 
@@ -79,7 +69,7 @@ def test_defaults_build_a_valid_model(name):
     assert kinds == {"interior", "exterior"}
     assert model.flanking, "every family gives its flanking elements"
     assert 2 <= len(model.regions) <= 60          # modest models
-    validate_or_skip(model)
+    validate_model(model)
 
 
 @pytest.mark.parametrize("name", FAMILIES)
@@ -161,7 +151,6 @@ PSI_RANGES = {
 }
 
 
-@needs_run
 @pytest.mark.parametrize("name", FAMILIES)
 def test_psi_at_defaults_is_plausible(name):
     r = result(name)
@@ -171,34 +160,29 @@ def test_psi_at_defaults_is_plausible(name):
     assert r.coupling_coefficient > 0.0
 
 
-@needs_run
 def test_balcony_without_break_is_near_the_default_table():
     # ISO 14683, balcony slab through the insulation: about 0.9 (from memory)
     psi = result("balcony", thermal_break=False).psi
     assert 0.40 <= psi <= 1.50
 
 
-@needs_run
 def test_thermal_break_lowers_psi():
     with_break = result("balcony").psi
     without = result("balcony", thermal_break=False).psi
     assert with_break < 0.6 * without
 
 
-@needs_run
 def test_slab_edge_insulation_lowers_psi():
     bare = result("slab_edge", slab_edge_insulation_mm=0.0).psi
     insulated = result("slab_edge", slab_edge_insulation_mm=120.0).psi
     assert insulated < bare
 
 
-@needs_run
 def test_column_projection_raises_psi():
     assert result("steel_beam", column_projection_mm=0.0).psi < \
         result("steel_beam", column_projection_mm=120.0).psi
 
 
-@needs_run
 def test_reveal_insulation_lowers_psi():
     assert result("window_jamb", reveal_insulation_mm=60.0).psi < \
         result("window_jamb", reveal_insulation_mm=0.0).psi
@@ -209,13 +193,11 @@ def test_reveal_insulation_lowers_psi():
 # wider conducting member across the insulation raises it; the flanking
 # clear-field U is the same in each pair, so Ψ follows L2D).
 
-@needs_run
 def test_parapet_upstand_insulation_lowers_psi():
     assert result("parapet", upstand_insulation_mm=120.0).psi < \
         result("parapet", upstand_insulation_mm=40.0).psi
 
 
-@needs_run
 def test_ground_floor_perimeter_insulation_lowers_psi():
     none = result("ground_floor", perimeter_insulation_mm=0.0).psi
     shallow = result("ground_floor", perimeter_insulation_depth_mm=300.0).psi
@@ -223,14 +205,12 @@ def test_ground_floor_perimeter_insulation_lowers_psi():
     assert default < shallow < none
 
 
-@needs_run
 def test_wider_timber_stud_raises_psi():
     # timber λ 0.13 against mineral wool 0.035 W/(m·K) (ISO 10456 typical, from memory)
     assert result("timber_stud", stud_width_mm=90.0).psi > \
         result("timber_stud", stud_width_mm=45.0).psi
 
 
-@needs_run
 def test_timber_stud_lies_between_iso6946_limits():
     """U of the 2D stud wall between the ISO 6946 upper and lower limits of R.
 
@@ -259,12 +239,9 @@ def test_timber_stud_lies_between_iso6946_limits():
     assert 1.0 / r_upper * 0.995 <= u_2d <= 1.0 / r_lower * 1.005
 
 
-@needs_run
 @pytest.mark.parametrize("name", FAMILIES)
 def test_round_trip_through_a_model_file(name, tmp_path):
-    from bridgecalc import model as model_module
-    if not (hasattr(model_module, "write") and hasattr(model_module, "read")):
-        pytest.skip("bridgecalc.model.write/read are not available yet")
+    from bridgecalc.readers import modelfile as model_module
     path = tmp_path / f"{name}.toml"
     model_module.write(script(name).build(), path)
     again = run(model_module.read(path))

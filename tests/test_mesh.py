@@ -11,7 +11,7 @@ from bridgecalc import convergence, validation
 from bridgecalc import mesh as mesh_module
 from bridgecalc.errors import ModelError
 from bridgecalc.mesh import MeshOptions, build_mesh
-from bridgecalc.model import loads
+from bridgecalc.readers.modelfile import loads
 
 from conftest import thin_layer_models, triangle_angles
 

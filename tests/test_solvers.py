@@ -220,7 +220,7 @@ def test_multigrid_gives_way_early_on_needle_meshes():
     if not linsolve.available("multigrid"):
         pytest.skip("pyamg not installed")
     from bridgecalc.convergence import FIRST_MESH
-    from bridgecalc.model import loads
+    from bridgecalc.readers.modelfile import loads
     model = loads(thin_layer_models().models()["foil 0.01 mm"])
     mesh = adapt.refine(adapt.refine(adapt.refine(build_mesh(model, FIRST_MESH))))
     lam, q = material_arrays(model, mesh)

@@ -23,8 +23,8 @@ import math
 
 import pytest
 
-from bridgecalc.layers import u_value_plane_layers
-from bridgecalc.model import loads
+from bridgecalc.physics.iso6946 import u_value_plane_layers
+from bridgecalc.readers.modelfile import loads
 from bridgecalc.pipeline import run
 
 from conftest import thin_layer_models

@@ -11,8 +11,8 @@ import sys
 import uuid
 from pathlib import Path
 
-from .errors import BridgecalcError, ModelError
-from .model import Model
+from ..errors import BridgecalcError, ModelError
+from ..model import Model
 
 
 def load_module(path):

@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import math
 
-from .errors import ModelError
+from ..errors import ModelError
 
 #: Interior surface resistance, horizontal heat flow [m²·K/W], ISO 6946 Table 7
 #: (from memory).

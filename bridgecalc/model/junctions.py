@@ -33,10 +33,10 @@ from __future__ import annotations
 import math
 from numbers import Real
 
-from .errors import ModelError
-from .layers import (RSE, RSI_DOWNWARD, RSI_HORIZONTAL, RSI_SURFACE_TEMPERATURE,
+from ..errors import ModelError
+from ..physics.iso6946 import (RSE, RSI_DOWNWARD, RSI_HORIZONTAL, RSI_SURFACE_TEMPERATURE,
                      RSI_UPWARD)
-from .model import (Environment, Flanking, Layer, Material, Model, Probe, Region,
+from .types import (Environment, Flanking, Layer, Material, Model, Probe, Region,
                     Surface)
 
 #: Interior surface resistance on glazing and frames for surface temperatures
