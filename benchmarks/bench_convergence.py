@@ -41,11 +41,15 @@ import numpy as np
 import scipy.sparse.linalg as spla
 from skfem import Basis, ElementTriP1
 
-from bridgecalc import adapt, linsolve, validation
+from bridgecalc import validation
+from bridgecalc.mesh import refinement
+from bridgecalc.study import indicators
+from bridgecalc.solve import linsolve
 from bridgecalc.mesh import MeshOptions, build_mesh
 from bridgecalc.pipeline import _conditions, load, material_arrays, run
 from bridgecalc.results import heat_flow_case
-from bridgecalc.solve import ConductionProblem, conduction
+from bridgecalc.solve import ConductionProblem
+from bridgecalc.solve.assembly import conduction
 
 ROOT = Path(__file__).resolve().parent.parent
 JUNCTIONS = ["balcony", "steel_beam", "window_jamb"]
@@ -144,7 +148,7 @@ def scale_row(target_nodes=1_000_000):
             break
         refinement *= math.sqrt(target_nodes / (mesh.node_count * 4 ** steps))
     for _ in range(steps):
-        mesh = adapt.refine(mesh)
+        mesh = refinement.refine(mesh)
     t_mesh = time.perf_counter() - t0
     lam, q = material_arrays(model, mesh)
     heat_conditions, surface_conditions = _conditions(model, False), _conditions(model, True)

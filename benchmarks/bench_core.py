@@ -23,7 +23,7 @@ import scipy.sparse.linalg as spla
 
 import bridgecalc
 from bridgecalc import validation
-from bridgecalc.convergence import FIRST_MESH
+from bridgecalc.study.convergence import FIRST_MESH
 from bridgecalc.mesh import build_mesh
 
 TARGET_SECONDS = 2.0

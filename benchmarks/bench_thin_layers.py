@@ -59,8 +59,9 @@ import scipy.sparse.linalg as spla
 from skfem import Basis, BilinearForm, ElementTriP1, FacetBasis, LinearForm, MeshTri, asm
 from skfem.helpers import dot, grad
 
-from bridgecalc import linsolve, validation
-from bridgecalc.convergence import FIRST_MESH
+from bridgecalc import validation
+from bridgecalc.solve import linsolve
+from bridgecalc.study.convergence import FIRST_MESH
 from bridgecalc.readers.modelfile import loads
 from bridgecalc.pipeline import load, run
 

@@ -140,13 +140,13 @@ def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None,
                    dimension_system=None) -> Path:
     import dataclasses
 
-    from .convergence import FIRST_MESH
+    from .study.convergence import FIRST_MESH
     from .outputs import check_options, write_outputs
     from .pipeline import run
     f_rsi_min = getattr(args, "f_rsi_min", None)
     isotherm_step = getattr(args, "isotherm_step", None)
     check_options(f_rsi_min, isotherm_step, model)   # bad options: exit 2 before any work
-    from .convergence import DEFAULT_MAX_NODES, DEFAULT_TOLERANCE
+    from .study.convergence import DEFAULT_MAX_NODES, DEFAULT_TOLERANCE
     tolerance = getattr(args, "tolerance", None)
     max_nodes = getattr(args, "max_nodes", None)
     # the study's first mesh, its sizes divided by --refine

@@ -17,15 +17,15 @@ import numpy as np
 from .model import rules as model_rules
 from .readers import read
 from .errors import ModelError
-from .linsolve import one_blas_thread
+from .solve.linsolve import one_blas_thread
 from .mesh import Mesh, MeshOptions, build_mesh
 from .model import Model
 from .results import (HeatFlowCase, SurfaceTemperatureCase, coupling_coefficient,
                       design_temperatures, heat_flow_balance, heat_flow_case,
                       linear_thermal_transmittance, surface_temperature_case)
 from .solve import Condition, ConductionProblem
-from . import convergence as convergence_study
-from .convergence import DEFAULT_MAX_NODES, DEFAULT_TOLERANCE
+from .study import convergence as convergence_study
+from .study.convergence import DEFAULT_MAX_NODES, DEFAULT_TOLERANCE
 
 RESULTS_FORMAT = 1
 
@@ -53,7 +53,7 @@ class Result:
     element : str
     heat_flow_case : HeatFlowCase
     surface_temperature_case : SurfaceTemperatureCase
-    convergence : bridgecalc.convergence.Study or None
+    convergence : bridgecalc.study.convergence.ConvergenceStudy or None
     warnings : list of str
         What makes the numbers unfit to use as they stand (no surface facing
         the exterior, heat flows that do not balance); written to
@@ -182,7 +182,7 @@ def run(model: Model, mesh_options: MeshOptions | None = None, element: str = "P
     Result
         Fields and heat flows of the finest mesh; ``heat_flow_case.psi`` and
         ``coupling_coefficient`` are the study's best (extrapolated)
-        estimates (see :mod:`bridgecalc.convergence`).
+        estimates (see :mod:`bridgecalc.study.convergence`).
     """
     with one_blas_thread():
         return _run(model, mesh_options, element, tolerance, max_nodes, refinement)

@@ -12,7 +12,9 @@ import numpy as np
 import pytest
 
 
-from bridgecalc import adapt, validation
+from bridgecalc import validation
+from bridgecalc.mesh import refinement
+from bridgecalc.study import indicators
 from bridgecalc.mesh import build_mesh
 from bridgecalc.pipeline import _conditions, _solve_mesh, load, run
 
@@ -38,7 +40,7 @@ def tag_lengths(mesh):
 
 
 def check_conforming(mesh):
-    edges, t2e = adapt.edge_table(mesh.triangles)
+    edges, t2e = refinement.edge_table(mesh.triangles)
     count = np.bincount(t2e.ravel(), minlength=len(edges))
     assert count.max() == 2                       # no hanging nodes, no overlaps
     outline = {tuple(e) for e in edges[count == 1]}
@@ -52,7 +54,7 @@ def test_refinement_keeps_regions_and_surfaces_exact(case2, kind):
     rng = np.random.default_rng(0)
     for _ in range(3):
         marked = None if kind == "uniform" else rng.random(fine.triangle_count) < 0.1
-        fine = adapt.refine(fine, marked)
+        fine = refinement.refine(fine, marked)
     assert (areas(fine) > 0).all()                # counter-clockwise
     for r in range(len(model.regions)):
         assert areas(fine)[fine.region == r].sum() == pytest.approx(
@@ -74,7 +76,7 @@ def test_angles_stay_bounded(case2):
     conditions = _conditions(model, False)
     for _ in range(5):
         _, _, problem, field, _ = _solve_mesh(model, fine, "P1")
-        fine = adapt.refine(fine, adapt.mark(adapt.energy_error_indicators(problem, field,
+        fine = refinement.refine(fine, indicators.mark(indicators.energy_error_indicators(problem, field,
                                                                            conditions)))
     assert min_angle(fine) >= 0.4 * min_angle(mesh)
 
@@ -86,7 +88,7 @@ def test_estimator_vanishes_for_exact_layer_solution():
     mesh = build_mesh(model)
     conditions = _conditions(model, False)
     heat, _, problem, field, _ = _solve_mesh(model, mesh, "P1")
-    eta = adapt.energy_error_indicators(problem, field, conditions)
+    eta = indicators.energy_error_indicators(problem, field, conditions)
     scale = heat.coupling_coefficient * 25.0 ** 2          # L2D·ΔT², ΔT = 25 K
     assert eta.sum() <= 1e-16 * scale
 
@@ -98,16 +100,16 @@ def test_l2d_decreases_on_nested_meshes(case2):
     for _ in range(4):
         heat, _, problem, field, _ = _solve_mesh(model, mesh, "P1")
         values.append(heat.coupling_coefficient)
-        mesh = adapt.refine(mesh, adapt.mark(adapt.energy_error_indicators(problem, field,
+        mesh = refinement.refine(mesh, indicators.mark(indicators.energy_error_indicators(problem, field,
                                                                            conditions)))
     assert all(b < a for a, b in zip(values, values[1:]))
 
 
 def test_marking_takes_the_bulk_and_ties_alike():
     eta = np.array([4.0, 1.0, 1.0, 1.0, 1.0, 0.0, 0.0, 0.0, 0.0, 0.0])
-    marked = adapt.mark(eta, bulk=0.5, least=0.0)
+    marked = indicators.mark(eta, bulk=0.5, least=0.0)
     assert marked.tolist() == [True] + [False] * 9
-    marked = adapt.mark(eta, bulk=0.6, least=0.0)         # needs one of four equal ones: all
+    marked = indicators.mark(eta, bulk=0.6, least=0.0)         # needs one of four equal ones: all
     assert marked.sum() == 5
 
 

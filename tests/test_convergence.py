@@ -24,7 +24,10 @@ import math
 import numpy as np
 import pytest
 
-from bridgecalc import adapt, convergence, validation
+from bridgecalc import validation
+from bridgecalc.mesh import refinement
+from bridgecalc.study import indicators
+from bridgecalc.study import convergence
 from bridgecalc.cli import main
 from bridgecalc.errors import ModelError
 from bridgecalc.mesh import build_mesh
@@ -99,10 +102,10 @@ def test_error_estimate_covers_true_error_fourier_reference(method):
             ex = convergence.extrapolate(nodes, values, convergence.ELEMENT_RATE["P1"])
             assert abs(ex.value - exact) <= ex.error_estimate, (level, ex, exact)
         if method == "uniform":
-            mesh = adapt.refine(mesh)
+            mesh = refinement.refine(mesh)
         else:
-            eta = adapt.energy_error_indicators(problem, field, conditions)
-            mesh = adapt.refine(mesh, adapt.mark(eta))
+            eta = indicators.energy_error_indicators(problem, field, conditions)
+            mesh = refinement.refine(mesh, indicators.mark(eta))
     assert abs(values[-1] - exact) < 0.01 * exact                 # and it does converge
 
 
@@ -225,8 +228,8 @@ def test_error_estimate_covers_true_error_thin_liner():
             ex = convergence.extrapolate(nodes, values, convergence.ELEMENT_RATE["P1"])
             assert abs(ex.value - ref["value"]) <= ex.error_estimate + ref["uncertainty"], \
                 (level, ex, ref["value"])
-        eta = adapt.energy_error_indicators(problem, field, conditions)
-        mesh = adapt.refine(mesh, adapt.mark(eta))
+        eta = indicators.energy_error_indicators(problem, field, conditions)
+        mesh = refinement.refine(mesh, indicators.mark(eta))
     # nested meshes: L2D falls level by level towards the reference (Galerkin orthogonality)
     assert all(b < a for a, b in zip(values, values[1:]))
     assert values[-1] > ref["value"] - ref["uncertainty"]

@@ -7,8 +7,9 @@ import math
 import numpy as np
 import pytest
 
-from bridgecalc import convergence, validation
-from bridgecalc import mesh as mesh_module
+from bridgecalc import validation
+from bridgecalc.study import convergence
+from bridgecalc.mesh import build as mesh_module
 from bridgecalc.errors import ModelError
 from bridgecalc.mesh import MeshOptions, build_mesh
 from bridgecalc.readers.modelfile import loads
@@ -249,7 +250,7 @@ def test_strip_meshing_gmsh_refuses_falls_back(monkeypatch):
     def refuse(gmsh, strips, part_size):
         raise Exception("gmsh refused")
 
-    monkeypatch.setattr(mesh_module, "_align_strips", refuse)
+    monkeypatch.setattr(mesh_module, "align_strips", refuse)
     fallback = build_mesh(model, convergence.FIRST_MESH)
     plain = build_mesh(model, dataclasses.replace(convergence.FIRST_MESH, thin_aspect=math.inf))
     assert np.array_equal(fallback.nodes, plain.nodes)

@@ -13,12 +13,16 @@ import pytest
 import scipy.sparse.linalg as spla
 from skfem import Basis, ElementTriP1, FacetBasis
 
-from bridgecalc import adapt, linsolve, validation
+from bridgecalc import validation
+from bridgecalc.mesh import refinement
+from bridgecalc.study import indicators
+from bridgecalc.solve import linsolve
 from bridgecalc.errors import ModelError
 from bridgecalc.mesh import Mesh, build_mesh
 from bridgecalc.pipeline import _conditions, material_arrays, run
-from bridgecalc.solve import (ConductionProblem, conduction, floating_part, surface_load,
-                              surface_mass)
+from bridgecalc.solve import ConductionProblem
+from bridgecalc.solve.assembly import conduction, outline_facets, surface_load, surface_mass
+from bridgecalc.solve.boundaries import floating_part
 
 from conftest import thin_layer_models
 
@@ -42,7 +46,7 @@ def test_p1_assembly_matches_scikit_fem(case2_system):
         basis, conductivity=np.repeat(lam[:, None], basis.X.shape[1], axis=1))
     diff = abs(problem.stiffness - reference).max()
     assert diff <= 1e-12 * abs(reference).max()
-    facets = problem._facet_indices(mesh.skfem)
+    facets = outline_facets(mesh)
     for j in range(len(model.surfaces)):
         fb = FacetBasis(mesh.skfem, basis.elem, facets=facets[mesh.boundary_surface == j])
         m_ref = surface_mass.assemble(fb)
@@ -91,9 +95,7 @@ def test_unconverged_cg_never_returned(case2_system, monkeypatch):
 def test_works_without_optional_solvers(monkeypatch):
     """With every optional backend switched off, ISO 10211 case 2 still meets
     its published heat flow (9.5 W/m within 0.1, ISO 10211:2017 Annex C)."""
-    monkeypatch.setattr(linsolve, "_AVAILABLE",
-                        {"pardiso": False, "cholmod": False, "amg": False, "multigrid": False,
-                         "superlu": True})
+    monkeypatch.setattr(linsolve, "available", lambda name: name == "superlu")
     result = run(validation.case2_model(), refinement=None)
     assert result.heat_flow_case.heat_flow["inside"] == pytest.approx(9.5, abs=0.1)
     assert result.heat_flow_case.balance < 1e-9
@@ -104,8 +106,8 @@ def test_prolongation_interpolates_linear_fields_exactly(case2_system):
     """Nested P1 spaces: a linear field on the coarse mesh is the same linear
     field on the refined one, node by node (the refinement adds midpoints)."""
     _, mesh, _, _, _ = case2_system
-    fine = adapt.refine(mesh, np.arange(0, mesh.triangle_count, 4))
-    finer = adapt.refine(fine)
+    fine = refinement.refine(mesh, np.arange(0, mesh.triangle_count, 4))
+    finer = refinement.refine(fine)
 
     def linear(xy):
         return 1.5 + 2.0 * xy[:, 0] - 3.0 * xy[:, 1]
@@ -127,7 +129,7 @@ def test_multigrid_agrees_with_scipy_spsolve(case):
         pytest.skip("pyamg not installed")
     model = getattr(validation, f"{case}_model")()
     mesh = build_mesh(model)
-    mesh = adapt.refine(adapt.refine(mesh), np.arange(0, 4 * mesh.triangle_count, 3))
+    mesh = refinement.refine(refinement.refine(mesh), np.arange(0, 4 * mesh.triangle_count, 3))
     lam, q = material_arrays(model, mesh)
     problem = ConductionProblem(mesh, lam, len(model.surfaces), q, solver="multigrid")
     conditions = _conditions(model, False)
@@ -159,7 +161,7 @@ def test_a_part_touching_no_surface_is_found():
     chain, and reported as a clear error instead of a solve."""
     floating = _two_squares([-1, -1, -1, -1])
     assert floating_part(floating, set(), {0})
-    assert floating_part(adapt.refine(adapt.refine(floating)), set(), {0})
+    assert floating_part(refinement.refine(refinement.refine(floating)), set(), {0})
     assert not floating_part(_two_squares([-1, 1, -1, -1]), set(), {0, 1})
     assert not floating_part(_two_squares([-1, 1, -1, -1]), {1}, {0})   # held side
     assert not floating_part(_two_squares([1, 1, 1, 1]), {1}, {0})      # all held
@@ -190,8 +192,8 @@ def test_interpolated_start_saves_iterations():
     if not linsolve.available("multigrid"):
         pytest.skip("pyamg not installed")
     model = validation.case2_model()
-    coarse = adapt.refine(build_mesh(model))
-    fine = adapt.refine(coarse)
+    coarse = refinement.refine(build_mesh(model))
+    fine = refinement.refine(coarse)
     conditions = _conditions(model, False)
     lam, q = material_arrays(model, coarse)
     coarse_field = ConductionProblem(coarse, lam, len(model.surfaces), q).solve(conditions)
@@ -219,10 +221,10 @@ def test_multigrid_gives_way_early_on_needle_meshes():
     case 2)."""
     if not linsolve.available("multigrid"):
         pytest.skip("pyamg not installed")
-    from bridgecalc.convergence import FIRST_MESH
+    from bridgecalc.study.convergence import FIRST_MESH
     from bridgecalc.readers.modelfile import loads
     model = loads(thin_layer_models().models()["foil 0.01 mm"])
-    mesh = adapt.refine(adapt.refine(adapt.refine(build_mesh(model, FIRST_MESH))))
+    mesh = refinement.refine(refinement.refine(refinement.refine(build_mesh(model, FIRST_MESH))))
     lam, q = material_arrays(model, mesh)
     problem = ConductionProblem(mesh, lam, len(model.surfaces), q, solver="multigrid")
     limit = linsolve.multigrid_limit(mesh.node_count)

@@ -6,10 +6,10 @@ The sequence
 ------------
 The first mesh comes from gmsh (:func:`bridgecalc.mesh.build_mesh`); every
 later one refines the previous one inside this package
-(:func:`bridgecalc.adapt.refine`), so the meshes are nested and material and
+(:func:`bridgecalc.mesh.refine`), so the meshes are nested and material and
 surface tags stay exact. ``method="adaptive"`` (default, P1) refines the
 triangles that carry half of the residual error estimate
-(:mod:`bridgecalc.adapt`); ``method="uniform"`` splits every triangle into
+(:mod:`bridgecalc.study.indicators`); ``method="uniform"`` splits every triangle into
 four (halves every edge).
 
 Extrapolation and error estimate
@@ -65,9 +65,9 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import adapt
-from .errors import ModelError
-from .mesh import Mesh, MeshOptions, build_mesh
+from ..errors import ModelError
+from ..mesh import Mesh, MeshOptions, build_mesh, refine
+from . import indicators
 
 #: Default target relative error of Ψ and L2D [-] (0.1 %).
 DEFAULT_TOLERANCE = 1e-3
@@ -409,8 +409,8 @@ def converge(model, mesh_options: MeshOptions | None, element: str, tolerance: f
                 "there is no error estimate to rely on.")
             break
         marked = (None if method == "uniform" else
-                  adapt.mark(adapt.energy_error_indicators(problem, heat_field, conditions)))
-        finer = adapt.refine(mesh, marked)
+                  indicators.mark(indicators.energy_error_indicators(problem, heat_field, conditions)))
+        finer = refine(mesh, marked)
         if finer.node_count > max_nodes:
             study.stop_reason = (
                 f"the tolerance {tolerance:g} could not be reached within the node budget "

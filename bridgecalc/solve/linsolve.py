@@ -11,7 +11,7 @@ by size and by what is installed:
   A + Aᵀ) and diagonal pivoting: always available, the fallback;
 * ``multigrid``: conjugate gradients preconditioned by a geometric
   multigrid V-cycle on the chain of nested meshes the refinement made
-  (:func:`bridgecalc.adapt.refine` records each mesh's interpolation from
+  (:func:`bridgecalc.mesh.refine` records each mesh's interpolation from
   the coarser one). Coarse operators are the Galerkin products Pᵀ A P, so
   material jumps on the coarse meshes are represented exactly; one forward
   Gauss–Seidel sweep before and one backward sweep after the coarse
@@ -41,6 +41,7 @@ All choices give the same answer to round-off; a test compares them.
 
 from __future__ import annotations
 
+import functools
 import importlib.util
 import os
 
@@ -76,23 +77,19 @@ MULTIGRID_LIMIT_SIZE = 50_000
 #: its mean rate so far would need more than :func:`multigrid_limit` [-].
 FORESIGHT = 10
 
-_AVAILABLE: dict[str, bool] = {}
-
-
+@functools.cache
 def available(name: str) -> bool:
     """Whether an optional backend can be imported (checked once)."""
-    if name not in _AVAILABLE:
-        module = {"pardiso": "pypardiso", "cholmod": "sksparse", "amg": "pyamg",
-                  "multigrid": "pyamg"}.get(name)
-        ok = module is None or importlib.util.find_spec(module) is not None
-        if ok and name == "pardiso":
-            # MKL PARDISO is x86-only; a broken MKL install must not break runs
-            try:
-                import pypardiso  # noqa: F401
-            except Exception:                               # pragma: no cover
-                ok = False
-        _AVAILABLE[name] = ok
-    return _AVAILABLE[name]
+    module = {"pardiso": "pypardiso", "cholmod": "sksparse", "amg": "pyamg",
+              "multigrid": "pyamg"}.get(name)
+    ok = module is None or importlib.util.find_spec(module) is not None
+    if ok and name == "pardiso":
+        # MKL PARDISO is x86-only; a broken MKL install must not break runs
+        try:
+            import pypardiso  # noqa: F401
+        except Exception:                                   # pragma: no cover
+            ok = False
+    return ok
 
 
 def backends() -> list[str]:
@@ -168,20 +165,27 @@ class SPDSolver:
 
     def solve(self, matrix: sp.spmatrix, rhs: np.ndarray, prolongations=(),
               initial=None) -> np.ndarray:
-        """x with A x = b [same units as b / A].
+        """x with A x = b [same units as b / A], for one or several right-hand sides.
+
+        Several right-hand sides share one factorisation (direct backends) or
+        one multigrid or AMG hierarchy (iterative backends).
 
         Parameters
         ----------
         matrix : sparse matrix, shape (n, n)
-        rhs : ndarray, shape (n,)
+        rhs : ndarray, shape (n,) or (n, k)
         prolongations : sequence of sparse matrices, optional
             Interpolations from each coarser nested mesh to the next finer
             one, finest first (the first has n rows); enables ``multigrid``.
-        initial : ndarray, optional
+        initial : ndarray, shape like ``rhs``, optional
             Starting guess for the iterative backends (e.g. the solution on
             the coarser mesh, interpolated); direct backends ignore it.
         """
-        matrix = sp.csr_matrix(matrix)
+        rhs = np.asarray(rhs, dtype=float)
+        return np.reshape(self._solve(sp.csr_matrix(matrix), rhs, prolongations, initial),
+                          rhs.shape)
+
+    def _solve(self, matrix, rhs, prolongations, initial):
         n = matrix.shape[0]
         chain = bool(prolongations) and prolongations[0].shape[0] == n
         backend = choose(n, self.backend, chain)
@@ -195,14 +199,33 @@ class SPDSolver:
             return _pardiso(matrix, rhs)
         if backend == "cholmod":
             return self._cholmod(matrix, rhs)
+        if backend == "superlu":
+            return _superlu(matrix, rhs)
         if backend == "multigrid":
             if self._multigrid is None or self._multigrid.shape != matrix.shape:
                 self._multigrid = Multigrid(matrix, prolongations)
-            return self._cg(matrix, rhs, self._multigrid.preconditioner(), initial,
-                            multigrid_limit(n), foresee=True)
-        if backend == "amg":
-            return self._amg_cg(matrix, rhs, initial)
-        return _superlu(matrix, rhs)
+            preconditioner, limit = self._multigrid.preconditioner(), multigrid_limit(n)
+        else:
+            preconditioner, limit = self._amg_preconditioner(matrix), None
+        if rhs.ndim == 1:
+            return self._cg(matrix, rhs, preconditioner, initial, limit, backend == "multigrid")
+        columns, spent = [], 0
+        for c in range(rhs.shape[1]):
+            guess = None if initial is None else initial[:, c]
+            if self._direct_for == matrix.shape:      # an earlier column gave way
+                columns.append(None)
+                continue
+            columns.append(self._cg(matrix, rhs[:, c], preconditioner, guess, limit,
+                                    backend == "multigrid"))
+            spent += self.iterations
+        if any(x is None for x in columns):
+            # one factor for every column still to do
+            rest = [c for c, x in enumerate(columns) if x is None]
+            solved = _superlu(matrix, rhs[:, rest])
+            for k, c in enumerate(rest):
+                columns[c] = solved[:, k]
+        self.iterations = spent
+        return np.column_stack(columns)
 
     def _cholmod(self, matrix, rhs):
         from sksparse.cholmod import analyze
@@ -212,14 +235,14 @@ class SPDSolver:
         factor = self._cholmod_symbolic[1].cholesky(a)
         return factor(rhs)
 
-    def _amg_cg(self, matrix, rhs, initial=None):
+    def _amg_preconditioner(self, matrix):
         import pyamg
         if self._amg is None or self._amg.levels[0].A.shape != matrix.shape:
             self._amg = pyamg.smoothed_aggregation_solver(
                 matrix, symmetry="symmetric", strength="symmetric", max_coarse=500,
                 presmoother=("gauss_seidel", {"sweep": "symmetric"}),
                 postsmoother=("gauss_seidel", {"sweep": "symmetric"}))
-        return self._cg(matrix, rhs, self._amg.aspreconditioner(cycle="V"), initial)
+        return self._amg.aspreconditioner(cycle="V")
 
     def _cg(self, matrix, rhs, preconditioner, initial=None, limit=None, foresee=False):
         """Preconditioned CG with a checked residual, or a direct fallback.
@@ -382,22 +405,22 @@ def _superlu(matrix, rhs):
     return _symmetric_lu(matrix).solve(np.asarray(rhs, dtype=float))
 
 
-_PARDISO = []
+@functools.cache
+def _pardiso_solver():
+    """The one PARDISO solver object: building one searches the file system for MKL."""
+    import ctypes
+    import pypardiso
+    solver = pypardiso.PyPardisoSolver(mtype=2)             # real SPD
+    # one thread: deterministic sums, and no spinning threads on a busy machine
+    try:
+        solver.libmkl.MKL_Set_Num_Threads(ctypes.c_int(1))
+    except AttributeError:                                  # pragma: no cover
+        pass
+    return solver
 
 
 def _pardiso(matrix, rhs):
-    # one solver object: building one searches the file system for MKL
-    if not _PARDISO:
-        import ctypes
-        import pypardiso
-        solver = pypardiso.PyPardisoSolver(mtype=2)         # real SPD
-        # one thread: deterministic sums, and no spinning threads on a busy machine
-        try:
-            solver.libmkl.MKL_Set_Num_Threads(ctypes.c_int(1))
-        except AttributeError:                              # pragma: no cover
-            pass
-        _PARDISO.append(solver)
-    solver = _PARDISO[0]
+    solver = _pardiso_solver()
     solver.set_iparm(1, 1)                             # use the iparm values given here
     solver.set_iparm(2, 2)                             # nested dissection ordering (METIS)
     solver.set_iparm(10, 8)                            # pivot perturbation 1e-8 (MKL default)

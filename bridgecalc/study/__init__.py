@@ -1,0 +1,1 @@
+"""The mesh-convergence study: mesh → solve → estimate → refine → extrapolate."""
