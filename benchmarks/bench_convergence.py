@@ -42,14 +42,12 @@ import scipy.sparse.linalg as spla
 from skfem import Basis, ElementTriP1
 
 from bridgecalc import validation
-from bridgecalc.mesh import refinement
-from bridgecalc.study import indicators
-from bridgecalc.solve import linsolve
-from bridgecalc.mesh import MeshOptions, build_mesh
-from bridgecalc.pipeline import _conditions, load, material_arrays, run
-from bridgecalc.results import heat_flow_case
-from bridgecalc.solve import ConductionProblem
+from bridgecalc.api import load, run
+from bridgecalc.mesh import MeshOptions, build_mesh, refine
+from bridgecalc.results import flanking_results
+from bridgecalc.solve import ConductionProblem, linsolve
 from bridgecalc.solve.assembly import conduction
+from bridgecalc.solve.cases import conditions as _conditions, material_arrays
 
 ROOT = Path(__file__).resolve().parent.parent
 JUNCTIONS = ["balcony", "steel_beam", "window_jamb"]
@@ -81,8 +79,12 @@ def baseline_psi(model, refinement):
 
     problem.linear_solver = Direct()
     field = problem.solve(_conditions(model, False))
-    model_np = model if not model.probes else __import__("dataclasses").replace(model, probes=[])
-    psi = heat_flow_case(model_np, field).psi
+    theta = {e.name: e.temperature for e in model.environments}
+    inside = [e.name for e in model.environments if e.kind == "interior"]
+    outside = [e.name for e in model.environments if e.kind != "interior"]
+    flow = sum(q for s, q in zip(model.surfaces, field.heat_flow) if s.environment in inside)
+    l2d = flow / (theta[inside[0]] - theta[outside[0]])
+    psi = l2d - sum(f.ul for f in flanking_results(model))
     return psi, mesh.node_count, time.perf_counter() - t0
 
 
@@ -148,7 +150,7 @@ def scale_row(target_nodes=1_000_000):
             break
         refinement *= math.sqrt(target_nodes / (mesh.node_count * 4 ** steps))
     for _ in range(steps):
-        mesh = refinement.refine(mesh)
+        mesh = refine(mesh)
     t_mesh = time.perf_counter() - t0
     lam, q = material_arrays(model, mesh)
     heat_conditions, surface_conditions = _conditions(model, False), _conditions(model, True)

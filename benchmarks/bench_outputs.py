@@ -34,7 +34,7 @@ def cpu():
 root = Path(sys.argv[1]); workers = None if sys.argv[2] == "auto" else int(sys.argv[2])
 mode = sys.argv[3]
 w0, c0 = time.perf_counter(), cpu()
-from bridgecalc.pipeline import load, run
+from bridgecalc.api import load, run
 result = run(load(root / "geometries" / "slab_edge.py"))
 w1, c1 = time.perf_counter(), cpu()
 if mode == "solve":

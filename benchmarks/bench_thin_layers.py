@@ -63,7 +63,7 @@ from bridgecalc import validation
 from bridgecalc.solve import linsolve
 from bridgecalc.study.convergence import FIRST_MESH
 from bridgecalc.readers.modelfile import loads
-from bridgecalc.pipeline import load, run
+from bridgecalc.api import load, run
 
 ROOT = Path(__file__).resolve().parent.parent
 JUNCTIONS = ["balcony", "eaves", "ground_floor", "parapet", "slab_edge", "steel_beam",

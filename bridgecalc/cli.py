@@ -1,7 +1,7 @@
 """Command line: argument parsing and nothing else.
 
-Every command is a call a user could make from Python (``load``, ``run``,
-``write_outputs``, ``validation.run_checks``).
+Every command is a call a user could make from Python: the functions of
+:mod:`bridgecalc.api` (``load``, ``run``, ``write_outputs``, ...).
 """
 
 from __future__ import annotations
@@ -12,14 +12,6 @@ from pathlib import Path
 
 from . import __version__
 from .errors import BridgecalcError
-
-DEMO_SCRIPT = "slab_edge.py"
-
-
-def geometries_folder() -> Path:
-    """The junction library shipped beside the package (source tree)."""
-    return Path(__file__).resolve().parent.parent / "geometries"
-
 
 def _parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
@@ -87,45 +79,38 @@ def _report_options(parser) -> None:
                              "(default: about a tenth of θi − θe)")
 
 
-def _load(path: str, assignments):
-    """The model, and a geometry script's DIMENSION_SYSTEM (None for model files,
-    which have no such key); a script is executed once."""
-    from .readers import script as scripts
-    from .errors import ModelError
-    from .pipeline import load
-    source = Path(path)
-    if not source.exists():
-        raise ModelError(f"{source}: no such file")
-    if source.suffix == ".py":
-        module = scripts.load_module(source)
-        model = scripts.build(source, scripts.parse_assignments(module, assignments, source),
-                              module)
-        system = getattr(module, "DIMENSION_SYSTEM", None)
-        return model, system if isinstance(system, str) else None
-    if assignments:
-        raise ModelError(f"{source}: --set applies to geometry scripts only, not model files")
-    return load(source), None
-
-
 def summary(result, out_dir: Path) -> str:
     """The one-screen table printed after a run."""
     from .results import printed_position
     hf, st = result.heat_flow_case, result.surface_temperature_case
-    unit = result.model.length_unit
-    lines = [f"{result.model.name or result.model.origin}",
+    model = result.model
+    unit = model.length_unit
+    lines = [f"{model.name or model.origin}",
              f"  mesh               {result.mesh.node_count} nodes, "
              f"{result.mesh.triangle_count} triangles, {result.element}"]
+    if model.dimension_system:
+        lines.append(f"  dimensions         {model.dimension_system} (flanking lengths, Ψ)")
     for name, flow in hf.heat_flow.items():
         lines.append(f"  heat flow {name:<9}{flow:12.4f} W/m")
     lines.append(f"  balance            {hf.balance:12.1e}")
-    lines.append(f"  L2D                {hf.coupling_coefficient:12.4f} W/(m·K)")
+    if hf.coupling_coefficient is not None:
+        lines.append(f"  L2D                {hf.coupling_coefficient:12.4f} W/(m·K)")
+    if len(hf.coupling_coefficients) > 1:
+        for c in hf.coupling_coefficients:
+            pair = f"{c.between[0]}–{c.between[1]}"
+            psi = "" if c.psi is None else f"   Ψ {c.psi:9.4f} W/(m·K)"
+            lines.append(f"  L {pair[:16]:<16}{c.value:12.4f} W/(m·K){psi}")
     for f in hf.flanking:
         lines.append(f"  U·l {f.name[:14]:<15}{f.ul:12.4f} W/(m·K)")
     if hf.psi is not None:
         lines.append(f"  Ψ                  {hf.psi:12.4f} W/(m·K)")
-    at = printed_position(result.model, st.theta_si_min_at)
+    at = printed_position(model, st.theta_si_min_at)
     lines.append(f"  θsi,min            {st.theta_si_min:12.2f} °C at {at} {unit}")
-    lines.append(f"  fRsi               {st.f_rsi:12.3f}")
+    if st.f_rsi is not None:
+        lines.append(f"  fRsi               {st.f_rsi:12.3f}")
+    else:
+        weights = ", ".join(f"{name} {g:.3f}" for name, g in st.weighting_factors.items())
+        lines.append(f"  g at θsi,min       {weights} ({st.theta_si_min_environment}'s surface)")
     for name, value in st.probes.items():
         lines.append(f"  probe {name:<13}{value:12.2f} °C (surface-temperature case)")
     if getattr(result, "convergence", None) is not None:
@@ -136,25 +121,23 @@ def summary(result, out_dir: Path) -> str:
     return "\n".join(lines)
 
 
-def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None,
-                   dimension_system=None) -> Path:
+def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None) -> Path:
     import dataclasses
 
-    from .study.convergence import FIRST_MESH
+    from . import api
     from .outputs import check_options, write_outputs
-    from .pipeline import run
+    from .study.convergence import DEFAULT_MAX_NODES, DEFAULT_TOLERANCE, FIRST_MESH
     f_rsi_min = getattr(args, "f_rsi_min", None)
     isotherm_step = getattr(args, "isotherm_step", None)
     check_options(f_rsi_min, isotherm_step, model)   # bad options: exit 2 before any work
-    from .study.convergence import DEFAULT_MAX_NODES, DEFAULT_TOLERANCE
     tolerance = getattr(args, "tolerance", None)
     max_nodes = getattr(args, "max_nodes", None)
     # the study's first mesh, its sizes divided by --refine
-    result = run(model, dataclasses.replace(FIRST_MESH, refinement=refine), element,
-                 tolerance=DEFAULT_TOLERANCE if tolerance is None else tolerance,
-                 max_nodes=DEFAULT_MAX_NODES if max_nodes is None else max_nodes)
+    result = api.run(model, dataclasses.replace(FIRST_MESH, refinement=refine), element,
+                     tolerance=DEFAULT_TOLERANCE if tolerance is None else tolerance,
+                     max_nodes=DEFAULT_MAX_NODES if max_nodes is None else max_nodes)
     write_outputs(result, out_dir, f_rsi_min=f_rsi_min, isotherm_step=isotherm_step,
-                  dimension_system=dimension_system)
+                  dimension_system=model.dimension_system)
     print(summary(result, out_dir))
     for warning in result.warnings:
         print(f"warning: {warning}", file=sys.stderr)
@@ -182,20 +165,24 @@ def command_run(args) -> int:
     if args.max_nodes is not None and args.max_nodes < 100:
         raise BridgecalcError(f"--max-nodes must be a whole number of at least 100, "
                               f"got {args.max_nodes}")
-    model, dimension_system = _load(args.model, args.assignments)
-    out_dir = Path(args.out) if args.out else fresh_folder(Path.cwd() / Path(args.model).stem)
+    from . import api
+    source = Path(args.model)
+    if not source.exists():
+        raise BridgecalcError(f"{source}: no such file")
+    model = api.load(source, args.assignments)
+    out_dir = Path(args.out) if args.out else fresh_folder(Path.cwd() / source.stem)
     check_out_folder(out_dir)
-    _run_and_write(model, out_dir, args.element, args.refine, args, dimension_system)
+    _run_and_write(model, out_dir, args.element, args.refine, args)
     return 0
 
 
 def command_demo(args) -> int:
     from .outputs import REPORT_FILE, fresh_folder
-    script = geometries_folder() / DEMO_SCRIPT
-    model, dimension_system = _load(str(script), [])
+    from . import api
+    model = api.demo_model()
     out_dir = Path(args.out) if args.out else fresh_folder(Path.cwd() / "bridgecalc-demo")
     check_out_folder(out_dir)
-    _run_and_write(model, out_dir, args=args, dimension_system=dimension_system)
+    _run_and_write(model, out_dir, args=args)
     print(f"report: {out_dir / REPORT_FILE}")
     return 0
 

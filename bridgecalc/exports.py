@@ -43,7 +43,7 @@ def vtu_mesh(result):
 
     Parameters
     ----------
-    result : bridgecalc.pipeline.Result
+    result : bridgecalc.results.Result
     """
     import meshio
     model, mesh = result.model, result.mesh
@@ -84,7 +84,7 @@ def headline_row(result, f_rsi_min=None, dimension_system=None, version="") -> d
 
     Parameters
     ----------
-    result : bridgecalc.pipeline.Result
+    result : bridgecalc.results.Result
     f_rsi_min : float, optional
         The user's criterion [-].
     dimension_system : str, optional

@@ -567,7 +567,7 @@ def materials_figure(result, detail=False):
 
     Parameters
     ----------
-    result : bridgecalc.pipeline.Result
+    result : bridgecalc.results.Result
     detail : bool
         Draw the :func:`detail_window` only (there must be one).
 
@@ -649,7 +649,7 @@ def mesh_figure(result):
 
     Parameters
     ----------
-    result : bridgecalc.pipeline.Result
+    result : bridgecalc.results.Result
 
     Returns
     -------
@@ -696,7 +696,7 @@ def temperature_figure(result, isotherm_step=None, detail=False):
 
     Parameters
     ----------
-    result : bridgecalc.pipeline.Result
+    result : bridgecalc.results.Result
     isotherm_step : float, optional
         Temperature step between isotherms [K]; default 1, 2 or 5 × 10ⁿ near
         (θi − θe)/10.
@@ -1153,7 +1153,7 @@ def heat_flux_figure(result):
 
     Parameters
     ----------
-    result : bridgecalc.pipeline.Result
+    result : bridgecalc.results.Result
 
     Returns
     -------
@@ -1234,7 +1234,7 @@ def surface_temperature_figure(result, f_rsi_min=None):
 
     Parameters
     ----------
-    result : bridgecalc.pipeline.Result
+    result : bridgecalc.results.Result
     f_rsi_min : float, optional
         The user's criterion fRsi,min [-]; drawn as θe + fRsi,min (θi − θe).
 
@@ -1458,7 +1458,7 @@ def write_figures(result, folder, isotherm_step=None, f_rsi_min=None,
 
     Parameters
     ----------
-    result : bridgecalc.pipeline.Result
+    result : bridgecalc.results.Result
     folder : Path
     isotherm_step : float, optional
         [K]

@@ -273,7 +273,7 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
 
     Parameters
     ----------
-    result : bridgecalc.pipeline.Result
+    result : bridgecalc.results.Result
     out_dir : str or Path
         Destination folder; created if missing; files in it with the same
         names are replaced.

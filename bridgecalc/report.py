@@ -252,7 +252,7 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
 
     Parameters
     ----------
-    result : bridgecalc.pipeline.Result
+    result : bridgecalc.results.Result
     figures : dict of str to Path, optional
         PNG file per figure name (:func:`bridgecalc.figures.figure_names`).
     f_rsi_min : float, optional

@@ -93,8 +93,9 @@ def cache_key() -> str:
     digest = hashlib.sha256()
     digest.update(f"bridgecalc {__version__}\n".encode())
     package = Path(__file__).resolve().parent
-    for path in sorted(package.glob("*.py")):
-        digest.update(path.name.encode() + b"\0" + path.read_bytes() + b"\0")
+    for path in sorted(package.rglob("*.py")):
+        name = path.relative_to(package).as_posix()
+        digest.update(name.encode() + b"\0" + path.read_bytes() + b"\0")
     for name in LIBRARIES:
         try:
             version = metadata.version(name)

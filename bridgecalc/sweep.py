@@ -1,8 +1,8 @@
 """Parameter sweeps: one geometry script, many variants, one table.
 
 A sweep runs every combination of the values given for some of a geometry
-script's parameters through the one path (:func:`bridgecalc.pipeline.load`,
-:func:`bridgecalc.pipeline.run`) and collects Ψ, L2D, θsi,min and fRsi per
+script's parameters through the one path (:func:`bridgecalc.api.load`,
+:func:`bridgecalc.api.run`) and collects Ψ, L2D, θsi,min and fRsi per
 variant::
 
     from bridgecalc.sweep import sweep, write_sweep
@@ -245,9 +245,9 @@ def run_variant(script: str, index: int, params: dict,
     params : dict
         Parameters overriding the script's defaults.
     run_options : dict, optional
-        Keyword arguments for :func:`bridgecalc.pipeline.run`.
+        Keyword arguments for :func:`bridgecalc.api.run`.
     """
-    from .pipeline import load, run
+    from .api import load, run
     full = dict(params)
     try:
         with _GMSH_LOCK:
@@ -351,7 +351,7 @@ def sweep(script, vary: dict, workers: int | None = None, scheduler: str | None 
     timeout : float, optional
         Limit for the whole sweep [s]; default none.
     run_options : dict, optional
-        Keyword arguments passed to :func:`bridgecalc.pipeline.run` for every
+        Keyword arguments passed to :func:`bridgecalc.api.run` for every
         variant (mesh options, element, convergence-study settings); default:
         the same calculation as ``bridgecalc run``.
 

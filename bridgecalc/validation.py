@@ -270,7 +270,7 @@ CHECKS = (check_case1, check_case2, check_layers, check_source)
 def run_checks(run=None) -> list[CheckRow]:
     """Run every validation case with default settings."""
     if run is None:
-        from .pipeline import run
+        from .api import run
     rows = []
     for check in CHECKS:
         rows.extend(check(run))

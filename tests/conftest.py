@@ -42,3 +42,13 @@ def triangle_angles(nodes, triangles) -> np.ndarray:
         cos = (a * b).sum(1) / np.linalg.norm(a, axis=1) / np.linalg.norm(b, axis=1)
         angles.append(np.degrees(np.arccos(np.clip(cos, -1, 1))))
     return np.array(angles).T
+
+
+def solve_level(model, mesh, element="P1"):
+    """One mesh's heat-flow case as the study sees it: (HeatFlowCase, problem,
+    field at the model's temperatures, its boundary conditions)."""
+    from bridgecalc.results import heat_flow_case
+    from bridgecalc.solve.cases import conditions, solve_cases
+    cases = solve_cases(model, mesh, element)
+    return (heat_flow_case(cases), cases.problem, cases.heat.field(cases.temperatures),
+            conditions(model))

@@ -16,7 +16,9 @@ from bridgecalc import validation
 from bridgecalc.mesh import refinement
 from bridgecalc.study import indicators
 from bridgecalc.mesh import build_mesh
-from bridgecalc.pipeline import _conditions, _solve_mesh, load, run
+from bridgecalc.api import load, run
+from bridgecalc.solve.cases import conditions as _conditions
+from conftest import solve_level
 
 from conftest import triangle_angles
 
@@ -75,7 +77,7 @@ def test_angles_stay_bounded(case2):
     fine = mesh
     conditions = _conditions(model, False)
     for _ in range(5):
-        _, _, problem, field, _ = _solve_mesh(model, fine, "P1")
+        _, problem, field, _ = solve_level(model, fine)
         fine = refinement.refine(fine, indicators.mark(indicators.energy_error_indicators(problem, field,
                                                                            conditions)))
     assert min_angle(fine) >= 0.4 * min_angle(mesh)
@@ -87,7 +89,7 @@ def test_estimator_vanishes_for_exact_layer_solution():
     model = validation.layers_model()
     mesh = build_mesh(model)
     conditions = _conditions(model, False)
-    heat, _, problem, field, _ = _solve_mesh(model, mesh, "P1")
+    heat, problem, field, _ = solve_level(model, mesh)
     eta = indicators.energy_error_indicators(problem, field, conditions)
     scale = heat.coupling_coefficient * 25.0 ** 2          # L2D·ΔT², ΔT = 25 K
     assert eta.sum() <= 1e-16 * scale
@@ -98,7 +100,7 @@ def test_l2d_decreases_on_nested_meshes(case2):
     conditions = _conditions(model, False)
     values = []
     for _ in range(4):
-        heat, _, problem, field, _ = _solve_mesh(model, mesh, "P1")
+        heat, problem, field, _ = solve_level(model, mesh)
         values.append(heat.coupling_coefficient)
         mesh = refinement.refine(mesh, indicators.mark(indicators.energy_error_indicators(problem, field,
                                                                            conditions)))

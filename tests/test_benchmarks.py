@@ -10,7 +10,7 @@ import importlib.util
 
 import pytest
 
-from bridgecalc.pipeline import load, run
+from bridgecalc.api import load, run
 
 from conftest import GEOMETRIES, ROOT
 

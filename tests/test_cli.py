@@ -127,8 +127,16 @@ BAD_MODELS = {
                                 "surfaces[1].path"),
     "two surfaces on one edge": (GOOD.replace("path = [[360, 0], [360, 2000]]",
                                               "path = [[0, 0], [0, 2000]]"), "surfaces[1]"),
-    "no exterior environment": (GOOD.replace('kind = "exterior"', 'kind = "interior"'),
+    # addition A: an exterior environment is needed only when no two are at
+    # different temperatures; an interior one always
+    "no interior environment": (GOOD.replace('kind = "interior"', 'kind = "exterior"'),
                                 "environments"),
+    "all environments at one temperature": (GOOD.replace('temperature = 0.0',
+                                                         'temperature = 20.0'),
+                                            "environments[1].temperature"),
+    "no exterior and one temperature": (GOOD.replace('kind = "exterior"', 'kind = "unheated"')
+                                        .replace('temperature = 0.0', 'temperature = 20.0'),
+                                        "environments"),
     "no surface faces the interior": (GOOD.replace('environment = "inside"',
                                                    'environment = "outside"'), "surfaces"),
     "temperatures 1e-12 K apart": (GOOD.replace("temperature = 0.0",
@@ -244,13 +252,13 @@ def test_script_calling_sys_exit_exit_2(tmp_path, capsys, script, needle):
 def test_out_that_is_a_file_exit_2_before_any_work(tmp_path, capsys, monkeypatch, out, needle):
     # the run computed everything, then failed naming its staging folder
     # (".taken.x1y2z3/mesh.png: Not a directory")
-    import bridgecalc.pipeline
+    import bridgecalc.api
     model = write(tmp_path, GOOD)
     (tmp_path / "taken").write_text("a file in the way\n", encoding="utf-8")
 
     def no_run(*args, **kwargs):
         raise AssertionError("computed although the output folder cannot be written")
-    monkeypatch.setattr(bridgecalc.pipeline, "run", no_run)
+    monkeypatch.setattr(bridgecalc.api, "run", no_run)
     out = tmp_path / out
     assert main(["run", str(model), "--out", str(out)]) == 2
     err = capsys.readouterr().err
@@ -271,7 +279,9 @@ def test_folder_as_model_exit_2(tmp_path, capsys, name, needle):
     assert sorted(p.name for p in tmp_path.iterdir()) == [name]
 
 
-def test_three_temperatures_exit_2(tmp_path, capsys):
+def test_three_temperatures_need_between_exit_2(tmp_path, capsys):
+    """Addition A: with environments at more than two temperatures, a flanking
+    element must say which pair it separates."""
     text = GOOD + textwrap.dedent("""\
         [[environments]]
         name = "stair"
@@ -280,7 +290,8 @@ def test_three_temperatures_exit_2(tmp_path, capsys):
         """)
     model = write(tmp_path, text)
     assert main(["run", str(model), "--out", str(tmp_path / "o")]) == 2
-    assert "two-temperature" in capsys.readouterr().err
+    err = capsys.readouterr().err
+    assert f"error: {model}: flanking[0].between: missing" in err
     assert not (tmp_path / "o").exists()
 
 

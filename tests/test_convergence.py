@@ -32,7 +32,8 @@ from bridgecalc.cli import main
 from bridgecalc.errors import ModelError
 from bridgecalc.mesh import build_mesh
 from bridgecalc.model import Environment, Surface
-from bridgecalc.pipeline import _solve_mesh, load, run
+from bridgecalc.api import load, run
+from conftest import solve_level
 
 
 def test_extrapolation_recovers_the_limit_of_a_power_law():
@@ -95,7 +96,7 @@ def test_error_estimate_covers_true_error_fourier_reference(method):
     exact = bottom_flow_exact()
     nodes, values = [], []
     for level in range(5):
-        heat, _, problem, field, conditions = _solve_mesh(model, mesh, "P1")
+        heat, problem, field, conditions = solve_level(model, mesh)
         nodes.append(mesh.node_count)
         values.append(-heat.heat_flow["bottom"])
         if level >= 2:
@@ -149,7 +150,10 @@ def test_results_json_convergence_block(geometries):
     assert len(c["levels"]) >= 3
     for level in c["levels"]:
         assert set(level) == {"nodes", "triangles", "heat_flow", "coupling_coefficient",
-                              "psi", "theta_si_min"}
+                              "psi", "theta_si_min", "coupling_coefficients"}
+        # addition A: the one pair's L per level is the two-temperature L2D
+        (pair,) = level["coupling_coefficients"]
+        assert pair["value"] == pytest.approx(level["coupling_coefficient"], rel=1e-9)
     nodes = [lv["nodes"] for lv in c["levels"]]
     assert nodes == sorted(nodes) and nodes[-1] == data["mesh"]["nodes"]
     assert data["heat_flow_case"]["psi"] == c["psi_extrapolated"]
@@ -221,7 +225,7 @@ def test_error_estimate_covers_true_error_thin_liner():
     mesh = build_mesh(model, convergence.FIRST_MESH)
     nodes, values = [], []
     for level in range(6):
-        heat, _, problem, field, conditions = _solve_mesh(model, mesh, "P1")
+        heat, problem, field, conditions = solve_level(model, mesh)
         nodes.append(mesh.node_count)
         values.append(heat.coupling_coefficient)
         if level >= 2:

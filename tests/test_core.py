@@ -18,7 +18,7 @@ from bridgecalc import validation
 from bridgecalc.mesh import MeshOptions
 from bridgecalc.model import Environment, Flanking, Probe, Region, Surface
 from bridgecalc.outputs import results_json
-from bridgecalc.pipeline import load, run
+from bridgecalc.api import load, run
 
 from conftest import GEOMETRIES
 
@@ -201,10 +201,12 @@ def test_surface_temperature_case_uses_its_own_resistance(balcony):
     assert run(same).theta_si_min > result.theta_si_min
 
 
-def test_more_than_two_temperatures_is_a_clear_error(balcony):
+def test_more_than_two_temperatures_need_the_flanking_pair(balcony):
+    """Addition A: a third environment at its own temperature makes Ψ a matter
+    of pairs, so flanking elements must name theirs."""
     envs = list(balcony.environments) + [Environment("neighbour", 12.0, "interior")]
     model = dataclasses.replace(balcony, environments=envs)
-    with pytest.raises(ModelError, match="two-temperature"):
+    with pytest.raises(ModelError, match=r"flanking\[0\]\.between: missing"):
         run(model)
 
 

@@ -14,7 +14,7 @@ import numpy as np
 import pytest
 
 from bridgecalc import exports
-from bridgecalc.pipeline import load, run
+from bridgecalc.api import load, run
 from bridgecalc.results import heat_flux_density, interior_surface_profiles
 
 # Demo wall (geometries/slab_edge.py defaults): clay masonry 240 mm, λ 0.7;

@@ -10,7 +10,7 @@ import pytest
 from PIL import Image
 
 from bridgecalc import figures
-from bridgecalc.pipeline import load, run
+from bridgecalc.api import load, run
 
 
 @pytest.fixture(scope="module")

@@ -252,8 +252,14 @@ CASES = [
      ["environments[1].temperature", "below absolute zero"]),
     ("no-interior", setter("environments", 0, "kind", "exterior"),
      ["environments", "no interior environment"]),
-    ("no-exterior", setter("environments", 1, "kind", "interior"),
-     ["environments", "no exterior environment"]),
+    # addition A: no exterior environment is needed when two are at different
+    # temperatures (a wall between two rooms); one temperature is never enough
+    ("one-temperature", setter("environments", 1, "temperature", 20.0),
+     ["environments[1].temperature", "every environment is at 20 °C"]),
+    ("no-exterior-one-temperature",
+     lambda d: setter("environments", 1, "kind", "unheated")(
+         setter("environments", 1, "temperature", 20.0)(d)),
+     ["environments", "no exterior environment, and no two environments at different"]),
     # surfaces
     ("no-surfaces", setter("surfaces", []), ["surfaces", "no surfaces"]),
     ("surface-undefined-environment", setter("surfaces", 1, "environment", "outdoors"),
@@ -666,10 +672,12 @@ def rich_model() -> Model:
         surfaces=[Surface("inside", 0.13, ((0, 0), (0, 1050)), 0.25),
                   Surface("outside", 0.04, ((360, 0), (360, 1050))),
                   Surface("unheated", 0.0, ((0, 0), (360, 0)))],
-        flanking=[Flanking("wall", 1050, u_value=0.2),
+        # three temperatures: each flanking element names its pair (addition A)
+        flanking=[Flanking("wall", 1050, u_value=0.2, between=("inside", "outside")),
                   Flanking("floor", 360.0, layers=(Layer("concrete", 200), Layer("eps", 160)),
-                           surface_resistances=(0.17, 0.04)),
-                  Flanking("roof", 0.0, layers=(Layer("cavity 50", 50),))],
+                           surface_resistances=(0.17, 0.04), between=("unheated", "inside")),
+                  Flanking("roof", 0.0, layers=(Layer("cavity 50", 50),),
+                           between=("inside", "outside"))],
         probes=[Probe("P1", (100, 500)), Probe("P2", (360, 1050))],
         name="Rich ünïcode model",
         origin="rich_script.py")

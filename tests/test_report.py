@@ -21,7 +21,7 @@ from PIL import Image
 from bridgecalc import outputs, report, stamp as stamps
 from bridgecalc.cli import main
 from bridgecalc.errors import BridgecalcError
-from bridgecalc.pipeline import load, run
+from bridgecalc.api import load, run
 
 CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")
 PDFTOPPM = shutil.which("pdftoppm")
@@ -270,8 +270,8 @@ def test_cli_rejects_a_bad_criterion_with_exit_2(geometries, tmp_path, capsys):
 def test_an_isotherm_step_too_fine_is_refused_before_solving(geometries, tmp_path, capsys,
                                                               monkeypatch):
     # 1e-9 K over θi − θe = 20 K asked for 2e10 isotherms (a 140 GiB array)
-    import bridgecalc.pipeline
-    monkeypatch.setattr(bridgecalc.pipeline, "_run", lambda *a: pytest.fail("solved"))
+    import bridgecalc.api
+    monkeypatch.setattr(bridgecalc.api, "_run", lambda *a: pytest.fail("solved"))
     out = tmp_path / "out"
     assert main(["run", str(geometries / "slab_edge.py"), "--out", str(out),
                  "--isotherm-step", "1e-9"]) == 2

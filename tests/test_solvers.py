@@ -19,7 +19,8 @@ from bridgecalc.study import indicators
 from bridgecalc.solve import linsolve
 from bridgecalc.errors import ModelError
 from bridgecalc.mesh import Mesh, build_mesh
-from bridgecalc.pipeline import _conditions, material_arrays, run
+from bridgecalc.api import run
+from bridgecalc.solve.cases import conditions as _conditions, material_arrays
 from bridgecalc.solve import ConductionProblem
 from bridgecalc.solve.assembly import conduction, outline_facets, surface_load, surface_mass
 from bridgecalc.solve.boundaries import floating_part

@@ -27,7 +27,7 @@ import socket
 import pytest
 
 from bridgecalc.cli import main
-from bridgecalc.pipeline import load, run
+from bridgecalc.api import load, run
 from bridgecalc import sweep as sweep_module
 from bridgecalc.sweep import CSV_FILE, FIGURE_FILE, NOTES_FILE, run_variant, sweep
 

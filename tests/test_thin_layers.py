@@ -25,7 +25,7 @@ import pytest
 
 from bridgecalc.physics.iso6946 import u_value_plane_layers
 from bridgecalc.readers.modelfile import loads
-from bridgecalc.pipeline import run
+from bridgecalc.api import run
 
 from conftest import thin_layer_models
 

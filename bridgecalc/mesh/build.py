@@ -80,33 +80,37 @@ def _gmsh_session():
 
 
 def region_polygons(model: Model):
-    """Region outlines in metres, with surface-path ends inserted as vertices.
+    """Region outlines and holes in metres, with surface-path ends inserted as vertices.
 
     Returns
     -------
-    list of ndarray, shape (n_i, 2)
-        One polygon per region [m], in file order.
+    list of list of ndarray, shape (n_i, 2)
+        Per region, in file order, its outline and then its holes [m].
     float
         On-path tolerance [m].
     """
     scale = model.metres_per_unit
-    polygons = [np.asarray(r.vertices, dtype=float) * scale for r in model.regions]
-    tol = geometry.on_path_tolerance(polygons)
+    rings = [[np.asarray(ring, dtype=float) * scale for ring in r.rings] for r in model.regions]
+    tol = geometry.on_path_tolerance([r[0] for r in rings])
     if model.surfaces:
         breakpoints = np.concatenate([np.asarray(s.path, dtype=float) * scale
                                       for s in model.surfaces])
     else:
         breakpoints = np.zeros((0, 2))
-    return ([np.asarray(geometry.insert_breakpoints(p, breakpoints, tol)) for p in polygons],
-            tol)
+    return ([[np.asarray(geometry.insert_breakpoints(ring, breakpoints, tol)) for ring in r]
+             for r in rings], tol)
 
 
-def _add_surface(occ, poly: np.ndarray) -> int:
-    """One plane surface through the polygon's vertices; returns its tag."""
-    points = [occ.addPoint(float(x), float(y), 0.0) for x, y in poly]
-    lines = [occ.addLine(points[i], points[(i + 1) % len(points)]) for i in range(len(points))]
-    loop = occ.addCurveLoop(lines)
-    return occ.addPlaneSurface([loop])
+def _add_surface(occ, rings) -> int:
+    """One plane surface bounded by the first ring, less the others (holes);
+    returns its tag."""
+    loops = []
+    for ring in rings:
+        points = [occ.addPoint(float(x), float(y), 0.0) for x, y in ring]
+        lines = [occ.addLine(points[i], points[(i + 1) % len(points)])
+                 for i in range(len(points))]
+        loops.append(occ.addCurveLoop(lines))
+    return occ.addPlaneSurface(loops)
 
 
 def build_mesh(model: Model, options: MeshOptions | None = None) -> Mesh:
@@ -210,7 +214,8 @@ def _classify_outline_curves(gmsh, model: Model, surface_tags, tol) -> dict[int,
 
 def _coarsest_size(options: MeshOptions, polygons) -> float:
     """Largest element size [m]: the model's largest dimension / cells_across_model."""
-    return geometry.largest_dimension(polygons) / options.cells_across_model / options.refinement
+    outlines = [rings[0] for rings in polygons]
+    return geometry.largest_dimension(outlines) / options.cells_across_model / options.refinement
 
 
 def _set_size_field(gmsh, model, options, polygons, surface_tags, owner, curve_surface,

@@ -6,11 +6,11 @@
 ``junctions`` the building steps of the shipped geometry scripts.
 """
 
-from .types import (ABSOLUTE_ZERO, ENVIRONMENT_KINDS, FORMAT, LENGTH_UNITS, AirLayer,
+from .types import (ABSOLUTE_ZERO, DIMENSION_SYSTEMS, ENVIRONMENT_KINDS, FORMAT, LENGTH_UNITS, AirLayer,
                     Environment, Flanking, Layer, Material, Model, Probe, Region, Surface,
                     air_layer_material)
 from .rules import validate
 
-__all__ = ["ABSOLUTE_ZERO", "ENVIRONMENT_KINDS", "FORMAT", "LENGTH_UNITS", "AirLayer",
+__all__ = ["ABSOLUTE_ZERO", "DIMENSION_SYSTEMS", "ENVIRONMENT_KINDS", "FORMAT", "LENGTH_UNITS", "AirLayer",
            "Environment", "Flanking", "Layer", "Material", "Model", "Probe", "Region",
            "Surface", "air_layer_material", "validate"]

@@ -364,5 +364,6 @@ def assemble(name: str, dimension_system: str, materials_: dict[str, Material],
         flanking=list(flanking),
         probes=[Probe(n, (float(x), float(y))) for n, (x, y) in probes],
         name=f"{name} ({dimension_system} dimensions)",
+        dimension_system=dimension_system,
         origin=script,
     )

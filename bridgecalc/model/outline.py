@@ -38,7 +38,8 @@ class OutlineEdge:
 
 def region_shapes(model: Model) -> list:
     """The regions as shapely polygons [length_unit], in model order."""
-    return [shapely.Polygon([(float(x), float(y)) for x, y in r.vertices])
+    return [shapely.Polygon([(float(x), float(y)) for x, y in r.vertices],
+                            [[(float(x), float(y)) for x, y in hole] for hole in r.holes])
             for r in model.regions]
 
 

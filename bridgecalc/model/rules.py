@@ -15,7 +15,7 @@ from . import geometry
 from .checker import (Checker, describe, fmt, fmt_point, is_real, is_sequence,
                       material_where)
 from .outline import outline_edges, region_shapes, solid_pieces
-from .types import (ABSOLUTE_ZERO, ENVIRONMENT_KINDS, FORMAT, LENGTH_UNITS, AirLayer,
+from .types import (ABSOLUTE_ZERO, DIMENSION_SYSTEMS, ENVIRONMENT_KINDS, FORMAT, LENGTH_UNITS, AirLayer,
                     Environment, Flanking, Layer, Material, Model, Probe, Region, Surface,
                     air_layer_material)
 from ..physics import iso6946
@@ -58,15 +58,21 @@ def validate(model: Model) -> None:
     check = Checker(getattr(model, "origin", "<model>"))
     if not isinstance(model, Model):
         check.fail("", f"expected a bridgecalc Model, got {describe(model)}")
-    fmt = model.format
-    if isinstance(fmt, bool) or not isinstance(fmt, int) or fmt != FORMAT:
-        check.fail("format", f"unknown format {fmt!r}; this version of bridgecalc reads "
+    version = model.format
+    if isinstance(version, bool) or not isinstance(version, int) or version != FORMAT:
+        check.fail("format", f"unknown format {version!r}; this version of bridgecalc reads "
                              f"format {FORMAT}")
     check.string(model.length_unit, "length_unit")
     if model.length_unit not in LENGTH_UNITS:
         check.fail("length_unit", f"unknown unit {model.length_unit!r}; use one of "
                                   f"{', '.join(repr(u) for u in LENGTH_UNITS)}")
     check.string(model.name, "name", optional=True)
+    check.string(model.dimension_system, "dimension_system", optional=True)
+    if model.dimension_system is not None and model.dimension_system not in DIMENSION_SYSTEMS:
+        check.fail("dimension_system", f"unknown dimension system {model.dimension_system!r}; "
+                                        f"use one of "
+                                        f"{', '.join(repr(d) for d in DIMENSION_SYSTEMS)} "
+                                        f"(ISO 14683)")
     for table, noun in (("regions", "Region"), ("environments", "Environment"),
                         ("surfaces", "Surface"), ("flanking", "Flanking"), ("probes", "Probe")):
         value = getattr(model, table)
@@ -136,6 +142,7 @@ def _check_regions(check: Checker, model: Model):
         else:
             check.fail(f"{where}", f"shape must be 'rectangle' or 'polygon', got "
                                    f"{describe(region.shape)}")
+        _check_holes(check, region, where)
     tol = geometry.on_path_tolerance([r.vertices for r in model.regions])
     for i, region in enumerate(model.regions):
         _check_clearance(check, region, f"regions[{i}].{region.shape}", tol,
@@ -149,7 +156,8 @@ def _check_clearance(check: Checker, region: Region, where: str, tol: float, uni
     geometry tolerance is set to it), so a shorter edge, or a vertex that
     close to an edge it does not belong to, is a degenerate outline there.
     """
-    shape = shapely.Polygon([(float(x), float(y)) for x, y in region.vertices])
+    shape = shapely.Polygon([(float(x), float(y)) for x, y in region.vertices],
+                            [[(float(x), float(y)) for x, y in hole] for hole in region.holes])
     clearance = shapely.minimum_clearance(shape)
     if not clearance <= tol:
         return
@@ -164,6 +172,40 @@ def _check_clearance(check: Checker, region: Region, where: str, tol: float, uni
                       f"{fmt_point(a)}, within the model's tolerance of {tol:.3g} {unit} "
                       f"(1e-6 of its largest dimension): two vertices almost coincide, or "
                       f"a vertex almost touches an edge; merge them or move them apart")
+
+
+def _check_holes(check: Checker, region: Region, where: str):
+    """Holes: simple polygons strictly inside the region's polygon, apart from
+    each other (model format 1, addition B)."""
+    holes = region.holes
+    if not is_sequence(holes):
+        check.fail(f"{where}.holes", f"expected a list of polygons, got {describe(holes)}")
+    if not holes:
+        return
+    if region.shape != "polygon":
+        check.fail(f"{where}.holes", "only a polygon region may have holes; write the "
+                                     "rectangle as a polygon")
+    outline = shapely.Polygon(region.vertices)
+    shapes = []
+    for k, hole in enumerate(holes):
+        hwhere = f"{where}.holes[{k}]"
+        _check_polygon(check, hole, hwhere)
+        shape = shapely.Polygon(hole)
+        if not outline.intersects(shape) or outline.touches(shape):
+            check.fail(hwhere, "lies outside the region's polygon; a hole must lie "
+                               "strictly inside it")
+        if not outline.contains(shape):
+            crossing = shapely.intersection(outline.exterior, shape.exterior)
+            near = shapely.get_coordinates(crossing)
+            at = f" near {fmt_point(near[0])}" if len(near) else ""
+            check.fail(hwhere, f"crosses or touches the outline of the region's polygon{at}; "
+                               f"a hole must lie strictly inside it (to cut the region "
+                               f"open, draw its outline around the gap instead)")
+        for j, other in enumerate(shapes):
+            if shape.intersects(other):
+                check.fail(hwhere, f"overlaps or touches {where}.holes[{j}]; holes of one "
+                                   f"region must lie apart (draw overlapping holes as one)")
+        shapes.append(shape)
 
 
 def _check_rectangle(check: Checker, region: Region, where: str):
@@ -211,8 +253,9 @@ def _unique_name(check: Checker, seen: dict, name, noun: str, table: str, index:
 
 
 def _check_environments(check: Checker, model: Model):
+    """Each environment well formed; at least one interior environment, and
+    at least two temperatures (model format 1, addition A)."""
     seen = {}
-    kinds = set()
     for i, env in enumerate(model.environments):
         where = f"environments[{i}]"
         if not isinstance(env, Environment):
@@ -227,11 +270,45 @@ def _check_environments(check: Checker, model: Model):
         if env.kind not in ENVIRONMENT_KINDS:
             check.fail(f"{where}.kind", f"unknown kind {env.kind!r}; use one of "
                                         f"{', '.join(repr(k) for k in ENVIRONMENT_KINDS)}")
-        kinds.add(env.kind)
-    for kind in ENVIRONMENT_KINDS:
-        if kind not in kinds:
-            check.fail("environments", f"no {kind} environment; a model needs at least "
-                                       f"one with kind = {kind!r}")
+    if not any(env.kind == "interior" for env in model.environments):
+        check.fail("environments", "no interior environment; a model needs at least one "
+                                   "with kind = 'interior'")
+    temperatures = {env.temperature for env in model.environments}
+    if len(temperatures) < 2:
+        last = len(model.environments) - 1
+        if not any(env.kind == "exterior" for env in model.environments):
+            check.fail("environments", "no exterior environment, and no two environments "
+                                       "at different temperatures; a model needs an "
+                                       "exterior environment, or at least two environments "
+                                       "at different temperatures")
+        check.fail(f"environments[{last}].temperature",
+                   f"every environment is at {fmt(temperatures.pop())} °C, so no heat flows "
+                   f"and there is no temperature difference to compute coupling "
+                   f"coefficients, Ψ or fRsi with; give the environments their design "
+                   f"temperatures")
+
+
+def temperature_levels(model: Model) -> list[float]:
+    """The distinct environment temperatures [°C], ascending."""
+    return sorted({float(env.temperature) for env in model.environments})
+
+
+def two_temperature_sides(model: Model) -> tuple[float, float] | None:
+    """(θi, θe) [°C] of a model whose environments hold exactly two
+    temperatures, else None.
+
+    θi is the temperature of the interior environments when they share one
+    (the usual case: interior at one temperature, exterior or unheated at
+    the other), else the higher of the two; θe is the other. L2D, Ψ and
+    fRsi keep their two-temperature meaning for such models (addition A).
+    """
+    levels = temperature_levels(model)
+    if len(levels) != 2:
+        return None
+    interior = {float(e.temperature) for e in model.environments if e.kind == "interior"}
+    theta_i = interior.pop() if len(interior) == 1 else levels[1]
+    theta_e = levels[0] if theta_i == levels[1] else levels[1]
+    return theta_i, theta_e
 
 
 def _check_surfaces(check: Checker, model: Model):
@@ -261,9 +338,10 @@ TEMPERATURE_DIFFERENCE_RELATIVE = 1e-6
 def check_temperature_difference(model: Model, theta_i: float, theta_e: float) -> None:
     """Before a calculation: θi − θe is large enough to divide by.
 
-    L2D and fRsi are divided by θi − θe, while the solver works with the
-    temperatures themselves; a difference under a millionth of them is mostly
-    round-off (a difference of 1e-12 K at 20 °C gave L2D = −7 W/(m·K)).
+    L2D and fRsi of a two-temperature model are divided by θi − θe, while the
+    solver works with the temperatures themselves; a difference under a
+    millionth of them is mostly round-off (a difference of 1e-12 K at 20 °C
+    gave L2D = −7 W/(m·K)).
 
     Raises
     ------
@@ -280,28 +358,47 @@ def check_temperature_difference(model: Model, theta_i: float, theta_e: float) -
 
 
 def unfaced_sides(model: Model) -> dict[str, str]:
-    """Environment kinds ("interior", "exterior") that no surface faces, each
-    with a message that says so, names the environments and the table.
+    """What the surfaces leave out: environments no surface faces.
 
     Format 1 does not forbid such a file (its own example has no exterior
-    surface), so the reader reads it. Without an interior surface there is no
-    θsi,min, and ``run`` refuses the model; without an exterior surface no
-    heat flows between the sides, L2D = 0, Ψ = −ΣU·l and fRsi = 1 by
-    construction, and ``run`` computes it with that warning carried to every
-    output.
+    surface), so the reader reads it. Returns messages that name the
+    environments and the table:
+
+    * under ``"interior"``, when no surface faces any interior environment:
+      there is no θsi,min, and ``run`` refuses the model;
+    * under an environment's name, for each other environment no surface
+      faces: its coupling coefficients are zero. When what the surfaces face
+      is all at one temperature, no heat flows through the model at all (L2D
+      = 0, Ψ = −ΣU·l, fRsi = 1 by construction); ``run`` computes it with the
+      message as a warning carried to every output.
     """
-    faced = {model.environment(s.environment).kind for s in model.surfaces}
+    faced = {s.environment for s in model.surfaces}
     out = {}
-    for kind in ENVIRONMENT_KINDS:
-        if kind not in faced:
-            names = ", ".join(repr(e.name) for e in model.environments if e.kind == kind)
-            consequence = ("so there is no interior surface temperature" if kind == "interior"
-                           else "so no heat flows between interior and exterior: L2D = 0, "
-                                "Ψ = −ΣU·l and fRsi = 1 by construction, and they say "
-                                "nothing about the junction")
-            out[kind] = (f"{model.origin}: surfaces: no surface faces an {kind} environment "
-                         f"({names}), {consequence}; give the {kind} side a [[surfaces]] "
-                         f"table")
+    if not any(model.environment(name).kind == "interior" for name in faced):
+        names = ", ".join(repr(e.name) for e in model.environments if e.kind == "interior")
+        out["interior"] = (f"{model.origin}: surfaces: no surface faces an interior environment "
+                           f"({names}), so there is no interior surface temperature; give the "
+                           f"interior side a [[surfaces]] table")
+        return out
+    no_flow = len({model.environment(name).temperature for name in faced}) < 2
+    two_temperatures = len(temperature_levels(model)) == 2
+    for env in model.environments:
+        if env.name in faced:
+            continue
+        if no_flow and two_temperatures:
+            consequence = ("so no heat flows between interior and exterior: L2D = 0, "
+                           "Ψ = −ΣU·l and fRsi = 1 by construction, and they say nothing "
+                           "about the junction")
+        elif no_flow:
+            consequence = ("so no heat flows through the model: every coupling coefficient "
+                           "is 0 and the surface temperatures are those of the faced "
+                           "environments by construction")
+        else:
+            consequence = ("so its coupling coefficients are 0 and it takes no part in the "
+                           "heat flows")
+        out[env.name] = (f"{model.origin}: surfaces: no surface faces an {env.kind} "
+                         f"environment ({env.name!r}), {consequence}; give the {env.kind} "
+                         f"side a [[surfaces]] table")
     return out
 
 
@@ -312,6 +409,7 @@ def _check_flanking(check: Checker, model: Model):
             check.fail(where, f"expected a Flanking, got {describe(flank)}")
         check.string(flank.name, f"{where}.name")
         check.number(flank.length, f"{where}.length", minimum=0.0)
+        _check_between(check, model, flank.between, f"{where}.between")
         if flank.u_value is not None and flank.layers is not None:
             check.fail(where, "give either u_value or layers, not both")
         if flank.u_value is None and flank.layers is None:
@@ -338,6 +436,34 @@ def _check_flanking(check: Checker, model: Model):
                            f"expected two numbers [Rsi, Rse] in m²·K/W, got {describe(rs)}")
             for k, r in enumerate(rs):
                 check.number(r, f"{where}.surface_resistances[{k}]", minimum=0.0)
+
+
+def _check_between(check: Checker, model: Model, between, where: str):
+    """The pair of environments a flanking element separates (addition A):
+    two different defined environments; required when the environments hold
+    more than two temperatures, where a Ψ needs its pair named."""
+    names = [env.name for env in model.environments]
+    if between is None:
+        levels = temperature_levels(model)
+        if len(levels) > 2:
+            listing = ", ".join(f"{e.name} {fmt(e.temperature)} °C" for e in model.environments)
+            check.fail(where, f"missing; the model's environments are at more than two "
+                              f"temperatures ({listing}), so say which pair of "
+                              f"environments this element separates, e.g. between = "
+                              f"[{names[0]!r}, {names[-1]!r}]")
+        return
+    if not is_sequence(between) or len(between) != 2:
+        check.fail(where, f"expected the names of two environments, got {describe(between)}")
+    for k, name in enumerate(between):
+        check.string(name, f"{where}[{k}]")
+        if name not in names:
+            hint = difflib.get_close_matches(name, names, n=1)
+            did_you_mean = f"; did you mean {hint[0]!r}?" if hint else ""
+            check.fail(f"{where}[{k}]", f"environment {name!r} is not defined (defined: "
+                                        f"{', '.join(names)}){did_you_mean}")
+    if between[0] == between[1]:
+        check.fail(where, f"names {between[0]!r} twice; a flanking element separates two "
+                          f"different environments")
 
 
 def _check_probes(check: Checker, model: Model):

@@ -18,7 +18,12 @@ from ..physics import iso6946
 
 FORMAT = 1
 LENGTH_UNITS = {"mm": 1e-3, "m": 1.0}
-ENVIRONMENT_KINDS = ("interior", "exterior")
+#: What an environment is: a heated room (searched for θsi,min), the outside
+#: air or ground, or an unheated or other adjacent space (a garage, a
+#: stairwell, a loft), whose surfaces count in the heat flows only.
+ENVIRONMENT_KINDS = ("interior", "exterior", "unheated")
+#: The dimension systems of ISO 14683 in which flanking lengths are measured.
+DIMENSION_SYSTEMS = ("internal", "overall internal", "external")
 #: 0 K in °C, by the definition of the Celsius scale (ISO 80000-5, from memory).
 ABSOLUTE_ZERO = -273.15
 #: Largest |coordinate| accepted, in the model's length unit [mm or m]: 1000 km
@@ -89,12 +94,17 @@ class Region:
         Uniform heat generation over the region's visible part [W/m³].
     shape : str
         ``"rectangle"`` or ``"polygon"``: how the region is written to a file.
+    holes : tuple of tuple of (x, y)
+        Polygons strictly inside ``vertices`` that are not part of the region
+        [length_unit] (polygon regions only): what lies below shows through,
+        and where nothing does, it is outside the model.
     """
 
     material: str
     vertices: tuple[Point, ...]
     heat_source: float = 0.0
     shape: str = "polygon"
+    holes: tuple[tuple[Point, ...], ...] = ()
 
     @classmethod
     def rectangle(cls, material: str, x0: float, y0: float, x1: float, y1: float,
@@ -104,10 +114,17 @@ class Region:
         return cls(material, vertices, heat_source, "rectangle")
 
     @classmethod
-    def polygon(cls, material: str, vertices, heat_source: float = 0.0) -> "Region":
-        """A simple polygon through ``vertices`` [length_unit]."""
+    def polygon(cls, material: str, vertices, heat_source: float = 0.0,
+                holes=()) -> "Region":
+        """A simple polygon through ``vertices`` [length_unit], less its ``holes``."""
         return cls(material, tuple((float(x), float(y)) for x, y in vertices),
-                   heat_source, "polygon")
+                   heat_source, "polygon",
+                   tuple(tuple((float(x), float(y)) for x, y in hole) for hole in holes))
+
+    @property
+    def rings(self) -> tuple[tuple[Point, ...], ...]:
+        """The outline and then each hole [length_unit]."""
+        return (self.vertices, *self.holes)
 
 
 @dataclass(frozen=True)
@@ -121,7 +138,7 @@ class Environment:
     temperature : float
         Air or held temperature [°C].
     kind : str
-        ``"interior"`` or ``"exterior"``.
+        ``"interior"``, ``"exterior"`` or ``"unheated"`` (:data:`ENVIRONMENT_KINDS`).
     """
 
     name: str
@@ -199,6 +216,11 @@ class Flanking:
     surface_resistances : (float, float) or None
         (Rsi, Rse) [m²·K/W] for the layer calculation; default (0.13, 0.04),
         ISO 6946 horizontal heat flow (from memory).
+    between : (str, str) or None
+        The pair of environments the element separates: its U·l counts in
+        Ψ_ij = L_ij − Σ U·l of that pair. May be left out when the
+        environments hold two temperatures; it then counts in the Ψ between
+        them.
     """
 
     name: str
@@ -206,6 +228,7 @@ class Flanking:
     u_value: float | None = None
     layers: tuple[Layer, ...] | None = None
     surface_resistances: tuple[float, float] | None = None
+    between: tuple[str, str] | None = None
 
 
 @dataclass(frozen=True)
@@ -243,6 +266,9 @@ class Model:
     probes : list of Probe
     name : str or None
         Shown in outputs.
+    dimension_system : str or None
+        The ISO 14683 dimension system the flanking lengths are measured in
+        (:data:`DIMENSION_SYSTEMS`), or None when not stated.
     origin : str
         Where the model came from (a file path or a script), used in messages.
     """
@@ -255,6 +281,7 @@ class Model:
     flanking: list[Flanking] = field(default_factory=list)
     probes: list[Probe] = field(default_factory=list)
     name: str | None = None
+    dimension_system: str | None = None
     # Where the model came from is not part of its content: a model written to
     # a file and read back equals the original.
     origin: str = field(default="<model>", compare=False)

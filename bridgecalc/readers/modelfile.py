@@ -23,14 +23,14 @@ from ..model.rules import check_air_layer, validate
 
 #: Keys each table of a format-1 file may hold (plus ``air_layer``, added by
 #: bridgecalc, see docs/model-format.md).
-TOP_LEVEL_KEYS = ("format", "name", "length_unit", "materials", "regions",
+TOP_LEVEL_KEYS = ("format", "name", "length_unit", "dimension_system", "materials", "regions",
                   "environments", "surfaces", "flanking", "probes")
 MATERIAL_KEYS = ("conductivity", "source", "air_layer")
 AIR_LAYER_KEYS = ("thickness", "direction", "emissivities")
-REGION_KEYS = ("material", "rectangle", "polygon", "heat_source")
+REGION_KEYS = ("material", "rectangle", "polygon", "holes", "heat_source")
 ENVIRONMENT_KEYS = ("name", "temperature", "kind")
 SURFACE_KEYS = ("environment", "resistance", "resistance_surface_temperature", "path")
-FLANKING_KEYS = ("name", "u_value", "length", "layers", "surface_resistances")
+FLANKING_KEYS = ("name", "between", "u_value", "length", "layers", "surface_resistances")
 LAYER_KEYS = ("material", "thickness")
 PROBE_KEYS = ("name", "at")
 
@@ -132,6 +132,12 @@ def loads(text: str, origin: str = "<string>") -> Model:
         material = _required(check, table, "material", where)
         heat_source = table.get("heat_source", 0.0)
         heat_source = _as_float(heat_source)
+        holes = table.get("holes", [])
+        if not isinstance(holes, list):
+            check.fail(f"{where}.holes", f"expected a list of polygons [[[x, y], ...], ...], "
+                                         f"got {describe(holes)}")
+        holes = tuple(tuple(check.points(hole, f"{where}.holes[{k}]", 3, "a hole"))
+                      for k, hole in enumerate(holes))
         if "rectangle" in table:
             rect = table["rectangle"]
             if not is_sequence(rect) or len(rect) != 4:
@@ -139,10 +145,12 @@ def loads(text: str, origin: str = "<string>") -> Model:
                            f"expected four numbers [x0, y0, x1, y1], got {describe(rect)}")
             x0, y0, x1, y1 = (check.coordinate(c, f"{where}.rectangle[{k}]")
                               for k, c in enumerate(rect))
-            regions.append(Region.rectangle(material, x0, y0, x1, y1, heat_source))
+            region = Region.rectangle(material, x0, y0, x1, y1, heat_source)
+            regions.append(Region(region.material, region.vertices, heat_source, "rectangle",
+                                  holes))
         else:
             vertices = check.points(table["polygon"], f"{where}.polygon", 3, "a polygon")
-            regions.append(Region(material, tuple(vertices), heat_source, "polygon"))
+            regions.append(Region(material, tuple(vertices), heat_source, "polygon", holes))
 
     environments = []
     for i, table in enumerate(_array_of_tables(check, data, "environments")):
@@ -188,12 +196,16 @@ def loads(text: str, origin: str = "<string>") -> Model:
         if resistances is not None:
             resistances = (tuple(_as_float(r) for r in resistances)
                            if isinstance(resistances, list) else resistances)
+        between = table.get("between")
+        if isinstance(between, list):
+            between = tuple(between)
         flanking.append(Flanking(
             _required(check, table, "name", where),
             _as_float(_required(check, table, "length", where)),
             _as_float(table.get("u_value")),
             stack,
-            resistances))
+            resistances,
+            between))
 
     probes = []
     for i, table in enumerate(_array_of_tables(check, data, "probes")):
@@ -204,7 +216,8 @@ def loads(text: str, origin: str = "<string>") -> Model:
 
     model = Model(length_unit=unit, materials=materials, regions=regions,
                   environments=environments, surfaces=surfaces, flanking=flanking,
-                  probes=probes, name=data.get("name"), origin=origin, format=fmt)
+                  probes=probes, name=data.get("name"),
+                  dimension_system=data.get("dimension_system"), origin=origin, format=fmt)
     validate(model)
     return model
 
@@ -324,6 +337,8 @@ def dumps(model: Model) -> str:
     if model.name is not None:
         out.append(_assignment("name", model.name))
     out.append(_assignment("length_unit", model.length_unit))
+    if model.dimension_system is not None:
+        out.append(_assignment("dimension_system", model.dimension_system))
     for key, mat in model.materials.items():
         out += ["", f"[{material_where(key)}]"]
         if mat.air_layer is None:
@@ -342,6 +357,8 @@ def dumps(model: Model) -> str:
             out.append(_assignment("rectangle", [x0, y0, x1, y1]))
         else:
             out.append(_assignment("polygon", [list(v) for v in region.vertices]))
+        if region.holes:
+            out.append(_assignment("holes", [[list(v) for v in hole] for hole in region.holes]))
         if region.heat_source != 0:
             out.append(_assignment("heat_source", region.heat_source))
     for env in model.environments:
@@ -356,6 +373,8 @@ def dumps(model: Model) -> str:
         out.append(_assignment("path", [list(p) for p in surf.path]))
     for flank in model.flanking:
         out += ["", "[[flanking]]", _assignment("name", flank.name)]
+        if flank.between is not None:
+            out.append(_assignment("between", list(flank.between)))
         if flank.u_value is not None:
             out.append(_assignment("u_value", flank.u_value))
         else:

@@ -1,7 +1,9 @@
 """Geometry scripts: Python files that build a model from parameters.
 
 A script defines ``PARAMETERS``, a dict of defaults (units in the names), and
-``build(**params)``, which returns a :class:`bridgecalc.Model`.
+``build(**params)``, which returns a :class:`bridgecalc.Model`. A module-level
+``DIMENSION_SYSTEM`` string states the model's dimension system when the
+model it builds does not.
 """
 
 from __future__ import annotations
@@ -112,4 +114,7 @@ def build(path, params=None, module=None) -> Model:
                          f"got {type(model).__name__}")
     if model.origin == "<model>":
         model.origin = str(path)
+    stated = getattr(module, "DIMENSION_SYSTEM", None)
+    if model.dimension_system is None and isinstance(stated, str):
+        model.dimension_system = stated       # validated with the rest of the model
     return model

@@ -1,6 +1,5 @@
-"""Mesh-convergence study: a sequence of nested meshes, the observed order of
-convergence, a Richardson-extrapolated Ψ (or L2D) with an error estimate, and
-the ISO 10211 doubling criterion.
+"""Mesh-convergence study: nested meshes, every coupling coefficient
+extrapolated with an error estimate, and the ISO 10211 doubling criterion.
 
 The sequence
 ------------
@@ -8,54 +7,49 @@ The first mesh comes from gmsh (:func:`bridgecalc.mesh.build_mesh`); every
 later one refines the previous one inside this package
 (:func:`bridgecalc.mesh.refine`), so the meshes are nested and material and
 surface tags stay exact. ``method="adaptive"`` (default, P1) refines the
-triangles that carry half of the residual error estimate
-(:mod:`bridgecalc.study.indicators`); ``method="uniform"`` splits every triangle into
-four (halves every edge).
+triangles that carry half of the residual error estimate of the worst-resolved
+quantity (:mod:`bridgecalc.study.indicators`); ``method="uniform"`` splits
+every triangle into four (halves every edge). Each level solves the model's
+unit cases (:mod:`bridgecalc.solve.cases`).
 
-Extrapolation and error estimate
---------------------------------
-On nested meshes without heat sources the discrete L2D of a two-temperature
-model decreases monotonically to the exact value (it is the energy of the
-normalised solution; Galerkin orthogonality), so the sequence is one-sided
-and regular. Over the last three levels Q_k (k = 1, 2, 3, with N_k nodes) the
-model Q = Q∞ + C·N^(−r) is fitted exactly (generalised Richardson
-extrapolation; Richardson, Phil. Trans. R. Soc. A 210, 1911; Roache, J.
-Fluids Eng. 116, 1994, 405–413, for the grid-convergence index). The observed
-order is reported per mesh size h ∝ N^(−1/2), i.e. p = 2r.
+What is extrapolated
+--------------------
+On nested meshes without heat sources the discrete heat flow out of any set
+of environments c at 1 °C into the others at 0 °C, the energy E_c, decreases
+monotonically to its exact value (it is twice a potential energy; Galerkin
+orthogonality), so its sequence is one-sided and regular and suits
+Richardson extrapolation (:mod:`bridgecalc.study.extrapolation`). Every
+coupling coefficient is L_ij = (E_i + E_j − E_ij)/2, extrapolated from those
+three energies with their error estimates added
+(:func:`bridgecalc.study.extrapolation.coupling_from_energies`). A model
+whose environments hold two temperatures keeps its headline L2D (the heat
+flow from the interior side over θi − θe): it is the energy of the interior
+side, extrapolated directly. θsi,min is extrapolated too and reported, with
+its estimate, but it does not decide when the study stops.
 
-The error estimate of the extrapolated value is deliberately the one of the
-finest computed level, enlarged by Roache's safety factor Fs = 1.25 for
-three-grid studies (from memory): e = Fs·|Q3 − Q∞|. The extrapolated value
-is normally closer to the truth than Q3, so e covers its error with margin;
-the test suite checks that it does on models with known answers. Where the
-differences change sign or the observed order is implausible, no
-extrapolation is claimed: the finest value is reported with
-e = 3·max|Q3 − Q2|, |Q2 − Q1| (Celik et al., J. Fluids Eng. 130, 2008,
-078001, oscillatory convergence; from memory) and convergence is not
-claimed. Changes within round-off count as a mesh-independent answer (a
-one-dimensional field is exact on every mesh): within 1e-10 relative, or ten
-times the heat-flow imbalance |Σ Φ| / max |Φ| of the last three levels where
-that is larger, as on needles one element across a foil, whose round-off
-reaches 1e-7; the estimate is then at least that round-off.
-
-Ψ differs from L2D by the exact constant Σ U·l, so both have the same
-absolute error. The Ψ tolerance is relative to max(|Ψ|, PSI_FLOOR·L2D): a
-Ψ near zero (a well-insulated junction) is resolved to 1e-4·L2D at the
-default tolerance (a few 1e-5 W/(m·K) for a wall junction, far below the
-precision Ψ is reported with) instead of chasing an unreachable relative
-error. This floor is the tool's own rule, not taken from a standard.
+The study stops when every controlled quantity is within the tolerance: each
+L_ij relative to max(|L_ij|, COUPLING_FLOOR·max L), each Ψ (headline or of a
+pair with flanking elements) relative to max(|Ψ|, PSI_FLOOR·L); and the ISO
+doubling check holds. Ψ differs from its L by the exact constant Σ U·l, so
+both have the same absolute error. A Ψ near zero (a well-insulated junction)
+is resolved to 1e-4·L at the default tolerance instead of chasing an
+unreachable relative error; both floors are the tool's own rule, not taken
+from a standard. Adaptive refinement aims at the quantity with the largest
+ratio of estimated error to tolerance.
 
 ISO 10211 doubling criterion
 ----------------------------
 ISO 10211 (5.3.2, from memory of the clause number) asks that doubling the
 number of subdivisions changes the heat flow by less than 1 %. Reported is
-the relative change of the interior heat flow between the final mesh and
-the last earlier level with at most a quarter of its triangles (its
-subdivisions at least doubled everywhere on average; for uniform refinement
-exactly the previous level), or the first (coarsest) mesh when no level is
-that coarse. On nested meshes this change is larger than the
-one a further doubling of the final mesh would bring, so the check errs on
-the safe side.
+the relative change of the heat flow between the final mesh and the last
+earlier level with at most a quarter of its triangles (its subdivisions at
+least doubled everywhere on average; for uniform refinement exactly the
+previous level), or the first (coarsest) mesh when no level is that coarse:
+the flow from the interior side of a two-temperature model; with more
+temperatures, the largest change of the flow into any temperature level,
+relative to the largest of those flows. On nested meshes this change is
+larger than the one a further doubling of the final mesh would bring, so the
+check errs on the safe side.
 """
 
 from __future__ import annotations
@@ -67,7 +61,19 @@ import numpy as np
 
 from ..errors import ModelError
 from ..mesh import Mesh, MeshOptions, build_mesh, refine
+from ..model import Model
+from ..model.rules import two_temperature_sides
+from ..solve import Condition
+from ..solve.cases import UnitCases, solve_cases
 from . import indicators
+from .extrapolation import (OSCILLATION_FACTOR, ORDER_RANGE, ROUND_OFF, SAFETY_FACTOR,
+                            UNCONFIRMED_FACTOR, Extrapolation, coupling_from_energies,
+                            extrapolate)
+
+__all__ = ["DEFAULT_MAX_NODES", "DEFAULT_TOLERANCE", "ELEMENT_RATE", "FIRST_MESH",
+           "ISO_DOUBLING_LIMIT", "ConvergenceStudy", "Extrapolation", "Level", "StudyOutcome",
+           "check_settings", "converge", "extrapolate", "OSCILLATION_FACTOR", "ORDER_RANGE",
+           "ROUND_OFF", "SAFETY_FACTOR", "UNCONFIRMED_FACTOR"]
 
 #: Default target relative error of Ψ and L2D [-] (0.1 %).
 DEFAULT_TOLERANCE = 1e-3
@@ -75,23 +81,17 @@ DEFAULT_TOLERANCE = 1e-3
 DEFAULT_MAX_NODES = 250_000
 #: ISO 10211 doubling criterion on the heat flow [-].
 ISO_DOUBLING_LIMIT = 0.01
-#: Roache's safety factor for three-grid estimates [-].
-SAFETY_FACTOR = 1.25
-#: Roache's factor when the observed order is not confirmed (from memory) [-].
-UNCONFIRMED_FACTOR = 3.0
-#: Factor on the largest recent change when no order can be fitted [-].
-OSCILLATION_FACTOR = 3.0
-#: Ψ tolerance floor, as a share of L2D [-]. At 0.01 the demo slab edge
+#: Ψ tolerance floor, as a share of L [-]. At 0.01 the demo slab edge
 #: (Ψ ≈ −0.005 W/(m·K)) refined to 58k nodes for a 5e-6 W/(m·K) error; at
 #: 0.1 it stops at 9k nodes with 4e-5 W/(m·K) and the same Ψ to 5 digits.
 PSI_FLOOR = 0.1
-#: Plausible range of the observed order per node count r (p = 2r per h).
-ORDER_RANGE = (0.05, 3.0)
+#: L_ij tolerance floor, as a share of the largest coupling coefficient of the
+#: model [-]: a coupling a hundred times smaller than the largest is resolved
+#: to tolerance × 1 % of the largest (the tool's own rule).
+COUPLING_FLOOR = 0.01
 #: Levels without a plausible order after which the study gives up.
 STALL_LEVELS = 3
 METHODS = ("adaptive", "uniform")
-#: Relative changes below this are round-off: the answer is mesh-independent [-].
-ROUND_OFF = 1e-10
 #: Relative changes below this multiple of the heat-flow imbalance |Σ Φ| / max |Φ|
 #: of the last levels are round-off too [-]. The imbalance is the round-off of
 #: the solution itself (it is zero in exact arithmetic): 1e-11 to 1.5e-10 on
@@ -104,7 +104,7 @@ BALANCE_NOISE = 10.0
 #: ... up to this relative change at most [-]: an imbalance above 1e-6 means a
 #: solve gone wrong (the pipeline warns of it), not round-off to be discounted.
 NOISE_LIMIT = 1e-5
-#: Asymptotic rate r per node count of the L2D error, Q − Q∞ ∝ N^(−r): the
+#: Asymptotic rate r per node count of the energy error, Q − Q∞ ∝ N^(−r): the
 #: squared energy-norm error, h^(2k) for degree k, i.e. N^(−k) (e.g. Braess,
 #: *Finite Elements*, ch. II; reached by adaptive meshes even at corners).
 ELEMENT_RATE = {"P1": 1.0, "P2": 2.0}
@@ -129,6 +129,67 @@ ELEMENT_RATE = {"P1": 1.0, "P2": 2.0}
 FIRST_MESH = MeshOptions(cells_across_model=15.0, cells_across_part=1.0, corner_ratio=1.0,
                          surface_ratio=1.0, growth=0.5, thin_aspect=20.0)
 
+#: A pair of environments, by name, in model order.
+Pair = tuple[str, str]
+
+
+def pairs_of(model: Model) -> list[tuple[int, int]]:
+    """Index pairs (i, j), i < j, of every two environments, in model order."""
+    n = len(model.environments)
+    return [(i, j) for i in range(n) for j in range(i + 1, n)]
+
+
+def pair_name(model: Model, i: int, j: int) -> Pair:
+    """The names of environments i and j."""
+    return model.environments[i].name, model.environments[j].name
+
+
+def interior_side(model: Model) -> tuple[float, float, list[int]] | None:
+    """(θi, θe, indices of the environments at θi) of a model whose
+    environments hold two temperatures (:func:`bridgecalc.model.rules.two_temperature_sides`),
+    else None."""
+    sides = two_temperature_sides(model)
+    if sides is None:
+        return None
+    theta_i, theta_e = sides
+    return theta_i, theta_e, [k for k, e in enumerate(model.environments)
+                              if e.temperature == theta_i]
+
+
+def cut_energy(couplings: np.ndarray, members) -> float:
+    """E_c = Σ_{i∈c, j∉c} L_ij [W/(m·K)]: the heat flow out of the environments
+    ``members`` (indices) at 1 °C into the others at 0 °C."""
+    inside = np.zeros(len(couplings), dtype=bool)
+    inside[list(members)] = True
+    return float(couplings[np.ix_(inside, ~inside)].sum())
+
+
+def heat_flow_balance(heat_flow, generated: float = 0.0) -> float:
+    """|Σ heat flow + generated| / max |heat flow| [-]: zero for a conserved field.
+
+    Parameters
+    ----------
+    heat_flow : iterable of float
+        Heat flow into the model per environment [W/m].
+    generated : float
+        Heat generated inside the section [W/m].
+    """
+    values = np.array(list(heat_flow), dtype=float)
+    scale = max(np.abs(values).max(initial=0.0), abs(generated))
+    return float(abs(values.sum() + generated) / scale) if scale > 0 else 0.0
+
+
+def given_heat_flows(cases: UnitCases) -> np.ndarray:
+    """Heat flow into the model from each environment at the model's
+    temperatures [W/m] (heat-flow case, sources on)."""
+    return cases.temperatures @ cases.heat.flow_matrix + cases.heat.source_flows
+
+
+def interior_surfaces(model: Model) -> list[int]:
+    """Indices of the surfaces facing an interior environment."""
+    return [j for j, s in enumerate(model.surfaces)
+            if model.environment(s.environment).kind == "interior"]
+
 
 @dataclass
 class Level:
@@ -137,127 +198,57 @@ class Level:
     Attributes
     ----------
     nodes, triangles : int
-    heat_flow : float
-        Heat flow into the model from the interior side [W/m].
-    coupling_coefficient : float
-        L2D [W/(m·K)].
+    heat_flow : float or None
+        Two temperatures: heat flow into the model from the interior side [W/m].
+    coupling_coefficient : float or None
+        Two temperatures: L2D [W/(m·K)].
     psi : float or None
-        Ψ [W/(m·K)].
+        Ψ [W/(m·K)] of the two-temperature L2D, with flanking elements.
     theta_si_min : float
         [°C], surface-temperature case.
+    coupling_coefficients : dict of (str, str) to float
+        L_ij of every pair of environments [W/(m·K)].
+    heat_flows : dict of str to float
+        Heat flow into the model per environment at the model's temperatures [W/m].
     """
 
     nodes: int
     triangles: int
-    heat_flow: float
-    coupling_coefficient: float
+    heat_flow: float | None
+    coupling_coefficient: float | None
     psi: float | None
     theta_si_min: float
+    coupling_coefficients: dict = field(default_factory=dict)
+    heat_flows: dict = field(default_factory=dict)
 
     def to_dict(self) -> dict:
         return {"nodes": self.nodes, "triangles": self.triangles, "heat_flow": self.heat_flow,
                 "coupling_coefficient": self.coupling_coefficient, "psi": self.psi,
-                "theta_si_min": self.theta_si_min}
+                "theta_si_min": self.theta_si_min,
+                "coupling_coefficients": [{"between": list(pair), "value": value}
+                                          for pair, value in self.coupling_coefficients.items()]}
 
 
-@dataclass(frozen=True)
-class Extrapolation:
-    """Richardson extrapolation over the last three levels.
-
-    Attributes
-    ----------
-    value : float
-        Extrapolated quantity (finest value when ``fitted`` is False).
-    error_estimate : float
-        Estimated absolute error of ``value`` (same unit).
-    order : float or None
-        Observed order per mesh size h (p = 2r, with Q − Q∞ ∝ N^(−r)).
-    fitted : bool
-        Whether a regular (monotone, plausible-order) fit was possible.
-    """
-
-    value: float
-    error_estimate: float
-    order: float | None
-    fitted: bool
-
-
-def _rate_equation(r, n1, n2, n3):
-    a, b, c = n1 ** -r, n2 ** -r, n3 ** -r
-    return (a - b) / (b - c)
-
-
-def extrapolate(nodes, values, max_rate: float = ORDER_RANGE[1],
-                noise: float = ROUND_OFF) -> Extrapolation:
-    """Fit Q = Q∞ + C·N^(−r) exactly through the last three (N, Q) pairs.
-
-    A fitted rate above ``max_rate`` (the element's asymptotic rate, e.g. 1
-    for the P1 energy and L2D) marks a pre-asymptotic sequence; the
-    extrapolation then uses ``max_rate``, which gives the larger, safer
-    correction, and the error estimate takes Roache's factor 3 for an
-    unconfirmed order instead of 1.25.
-
-    When both changes over the last three levels are within ``noise`` the
-    values are taken as mesh-independent: Q3 with an error estimate of three
-    times the larger change, and at least ``noise`` itself.
-
-    Parameters
-    ----------
-    nodes : sequence of int
-        Node counts N_k, increasing.
-    values : sequence of float
-        Q_k [any unit].
-    max_rate : float
-        Largest rate r per node count to extrapolate with [-].
-    noise : float
-        Relative size of round-off in the values [-].
-
-    Returns
-    -------
-    Extrapolation
-    """
-    n = [float(x) for x in nodes]
-    q = [float(x) for x in values]
-    if len(q) < 2:
-        return Extrapolation(q[-1], math.inf, None, False)
-    if len(q) < 3:
-        return Extrapolation(q[-1], OSCILLATION_FACTOR * abs(q[-1] - q[-2]), None, False)
-    (n1, n2, n3), (q1, q2, q3) = n[-3:], q[-3:]
-    d12, d23 = q1 - q2, q2 - q3
-    unfitted = Extrapolation(q3, OSCILLATION_FACTOR * max(abs(d12), abs(d23)), None, False)
-    scale = max(abs(q1), abs(q2), abs(q3))
-    if max(abs(d12), abs(d23)) <= max(noise, ROUND_OFF) * scale:
-        # exact on every mesh (e.g. 1D) to round-off; the estimate is at least that
-        floor = noise * scale if noise > ROUND_OFF else 0.0
-        return Extrapolation(q3, max(OSCILLATION_FACTOR * max(abs(d12), abs(d23)), floor),
-                             None, True)
-    if d23 == 0.0 or d12 == 0.0 or (d12 > 0) != (d23 > 0):
-        return unfitted
-    ratio = d12 / d23
-    lo, hi = ORDER_RANGE
-    f_lo, f_hi = _rate_equation(lo, n1, n2, n3) - ratio, _rate_equation(hi, n1, n2, n3) - ratio
-    if f_lo * f_hi > 0:
-        return unfitted
-    for _ in range(100):                                 # bisection: the ratio grows with r
-        mid = 0.5 * (lo + hi)
-        f_mid = _rate_equation(mid, n1, n2, n3) - ratio
-        if (f_mid > 0) == (f_hi > 0):
-            hi, f_hi = mid, f_mid
-        else:
-            lo, f_lo = mid, f_mid
-    r = 0.5 * (lo + hi)
-    order = 2.0 * r
-    # an order above the asymptotic one is not yet confirmed: larger factor
-    factor = SAFETY_FACTOR if r <= max_rate else UNCONFIRMED_FACTOR
-    r = min(r, max_rate)
-    b, c = n2 ** -r, n3 ** -r
-    limit = q3 - d23 * c / (b - c)
-    return Extrapolation(limit, factor * abs(q3 - limit), order, True)
+def _finite(x):
+    return None if x is None or not math.isfinite(x) else x
 
 
 @dataclass
 class ConvergenceStudy:
-    """Everything the study found; ``to_dict`` is results.json's ``convergence``."""
+    """Everything the study found; ``to_dict`` is results.json's ``convergence``.
+
+    Attributes
+    ----------
+    psi, coupling_coefficient : Extrapolation or None
+        The two-temperature Ψ and L2D (None with more temperatures, or Ψ
+        without flanking elements).
+    couplings : dict of (str, str) to Extrapolation
+        L_ij of every pair [W/(m·K)].
+    pair_psi : dict of (str, str) to Extrapolation
+        Ψ_ij of the pairs that flanking elements name [W/(m·K)].
+    theta_si_min : Extrapolation or None
+        θsi,min [°C]; reported, not a stopping criterion.
+    """
 
     method: str
     element: str
@@ -266,6 +257,9 @@ class ConvergenceStudy:
     levels: list[Level] = field(default_factory=list)
     psi: Extrapolation | None = None
     coupling_coefficient: Extrapolation | None = None
+    couplings: dict = field(default_factory=dict)
+    pair_psi: dict = field(default_factory=dict)
+    theta_si_min: Extrapolation | None = None
     iso_doubling_change: float | None = None
     criterion_met: bool = False
     stop_reason: str = ""
@@ -278,25 +272,64 @@ class ConvergenceStudy:
     def psi_error_estimate(self):
         return None if self.psi is None else self.psi.error_estimate
 
-    def relative_errors(self) -> dict:
-        """Estimated relative errors of L2D and Ψ (Ψ against its floor) [-]."""
-        out = {}
+    def _coupling_scale(self) -> float:
+        values = [abs(x.value) for x in self.couplings.values()]
+        if self.coupling_coefficient is not None:
+            values.append(abs(self.coupling_coefficient.value))
+        return COUPLING_FLOOR * max(values, default=0.0)
+
+    def controlled(self) -> list[tuple[str, object, Extrapolation, float]]:
+        """The quantities the study converges: (key, what, extrapolation, scale).
+
+        ``key`` is ``"coupling_coefficient"`` or ``"psi"`` for the
+        two-temperature L2D and Ψ, else ``("coupling", pair)`` or
+        ``("psi", pair)``; ``scale`` is what its error is relative to. A pair
+        of a model with exactly two environments is the L2D itself and is
+        not listed twice.
+        """
+        out = []
         cc = self.coupling_coefficient
         if cc is not None:
-            out["coupling_coefficient"] = cc.error_estimate / abs(cc.value) if cc.value else math.inf
-        if self.psi is not None and cc is not None:
-            scale = max(abs(self.psi.value), PSI_FLOOR * abs(cc.value))
-            out["psi"] = self.psi.error_estimate / scale if scale else math.inf
+            out.append(("coupling_coefficient", None, cc, abs(cc.value)))
+            if self.psi is not None:
+                out.append(("psi", None, self.psi,
+                            max(abs(self.psi.value), PSI_FLOOR * abs(cc.value))))
+        if cc is None or len(self.couplings) > 1:
+            floor = self._coupling_scale()
+            for pair, x in self.couplings.items():
+                out.append(("coupling", pair, x, max(abs(x.value), floor)))
+        for pair, x in self.pair_psi.items():
+            if cc is not None and len(self.couplings) == 1:
+                continue                               # the same as the headline Ψ
+            scale = max(abs(x.value), PSI_FLOOR * abs(self.couplings[pair].value))
+            out.append(("psi", pair, x, scale))
         return out
+
+    def relative_errors(self) -> dict:
+        """Estimated relative errors [-] of the controlled quantities, keyed
+        ``"coupling_coefficient"``, ``"psi"`` (two temperatures) and
+        ``"coupling_coefficient a|b"``, ``"psi a|b"`` (pairs)."""
+        out = {}
+        for key, pair, x, scale in self.controlled():
+            name = key if pair is None else f"{'psi' if key == 'psi' else 'coupling_coefficient'}" \
+                                            f" {pair[0]}|{pair[1]}"
+            out[name] = x.error_estimate / scale if scale else math.inf
+        return out
+
+    @staticmethod
+    def label(key: str) -> str:
+        """A :meth:`relative_errors` key in words: L2D, Ψ, L(a, b), Ψ(a, b)."""
+        what, _, pair = key.partition(" ")
+        symbol = {"coupling_coefficient": "L2D", "psi": "Ψ"}[what]
+        if not pair:
+            return symbol
+        a, b = pair.split("|")
+        return f"{'L' if symbol == 'L2D' else 'Ψ'}({a}, {b})"
 
     def to_dict(self) -> dict:
         rel = self.relative_errors()
-
-        def finite(x):
-            return None if x is None or not math.isfinite(x) else x
-
         cc = self.coupling_coefficient
-        return {
+        out = {
             "method": self.method,
             "element": self.element,
             "tolerance": self.tolerance,
@@ -304,26 +337,45 @@ class ConvergenceStudy:
             "levels": [lv.to_dict() for lv in self.levels],
             "observed_order": None if cc is None else cc.order,
             "psi_extrapolated": self.psi_extrapolated,
-            "psi_error_estimate": finite(self.psi_error_estimate),
-            "psi_relative_error_estimate": finite(rel.get("psi")),
+            "psi_error_estimate": _finite(self.psi_error_estimate),
+            "psi_relative_error_estimate": _finite(rel.get("psi")),
             "coupling_coefficient_extrapolated": None if cc is None else cc.value,
-            "coupling_coefficient_error_estimate": None if cc is None else finite(cc.error_estimate),
-            "coupling_coefficient_relative_error_estimate": finite(rel.get("coupling_coefficient")),
+            "coupling_coefficient_error_estimate": None if cc is None
+            else _finite(cc.error_estimate),
+            "coupling_coefficient_relative_error_estimate": _finite(
+                rel.get("coupling_coefficient")),
+            "coupling_coefficients": [],
             "iso_doubling_change": self.iso_doubling_change,
             "iso_doubling_limit": ISO_DOUBLING_LIMIT,
             "criterion_met": self.criterion_met,
             "stop_reason": self.stop_reason,
         }
+        floor = self._coupling_scale()
+        for pair, x in self.couplings.items():
+            entry = {"between": list(pair), "extrapolated": x.value,
+                     "error_estimate": _finite(x.error_estimate),
+                     "relative_error_estimate": _finite(
+                         x.error_estimate / max(abs(x.value), floor)
+                         if max(abs(x.value), floor) else math.inf),
+                     "observed_order": x.order}
+            if pair in self.pair_psi:
+                entry["psi_extrapolated"] = self.pair_psi[pair].value
+            out["coupling_coefficients"].append(entry)
+        if self.theta_si_min is not None:
+            out["theta_si_min_extrapolated"] = self.theta_si_min.value
+            out["theta_si_min_error_estimate"] = _finite(self.theta_si_min.error_estimate)
+        return out
 
     def summary_lines(self) -> list[str]:
         """Plain-words lines for the command-line summary and reports."""
         rel = self.relative_errors()
         lines = [f"convergence: {self.method} refinement, {len(self.levels)} meshes, "
                  f"{self.levels[-1].nodes if self.levels else 0} nodes on the finest"]
-        for name, key in (("Ψ", "psi"), ("L2D", "coupling_coefficient")):
-            if key in rel and math.isfinite(rel[key]):
-                lines.append(f"  estimated relative error of {name}: {rel[key]:.2e} "
-                             f"(target {self.tolerance:.1e})")
+        order = sorted(rel, key=lambda k: (k.startswith("coupling_coefficient"), k))
+        for key in order:
+            if math.isfinite(rel[key]):
+                lines.append(f"  estimated relative error of {self.label(key)}: "
+                             f"{rel[key]:.2e} (target {self.tolerance:.1e})")
         if self.iso_doubling_change is not None:
             lines.append(f"  ISO 10211 doubling check: heat flow changed by "
                          f"{100 * self.iso_doubling_change:.3f} % (limit 1 %)")
@@ -334,12 +386,51 @@ class ConvergenceStudy:
         return lines
 
 
-def _interior_heat_flow(model, flows) -> float:
-    return float(sum(flows[e.name] for e in model.environments if e.kind == "interior"))
+@dataclass
+class StudyOutcome:
+    """What :func:`converge` returns: the finest level's cases and mesh, and the study."""
+
+    cases: UnitCases
+    mesh: Mesh
+    study: ConvergenceStudy
 
 
-def converge(model, mesh_options: MeshOptions | None, element: str, tolerance: float,
-             max_nodes: int, method: str, solve_level):
+def level_of(cases: UnitCases, side, flanking_ul: dict) -> tuple[Level, float]:
+    """The numbers of one level, and its heat-flow imbalance [-].
+
+    Parameters
+    ----------
+    cases : UnitCases
+    side : (θi, θe, interior indices) or None
+        :func:`interior_side` of the model.
+    flanking_ul : dict
+        Σ U·l [W/(m·K)] of the flanking elements, keyed None for the
+        two-temperature Ψ and by pair for Ψ_ij.
+    """
+    model = cases.model
+    couplings = cases.heat.couplings
+    flows = given_heat_flows(cases)
+    generated = cases.heat.source.generated if cases.heat.source is not None else 0.0
+    balance = heat_flow_balance(flows, generated)
+    heat_flow = l2d = psi = None
+    if side is not None:
+        theta_i, theta_e, inside = side
+        heat_flow = float(flows[inside].sum())
+        l2d = heat_flow / (theta_i - theta_e)
+        if None in flanking_ul:
+            psi = l2d - flanking_ul[None]
+    surface = cases.surface.field(cases.temperatures)
+    theta_min, _ = surface.minimum_on(interior_surfaces(model))
+    mesh = cases.problem.mesh
+    pairs = {pair_name(model, i, j): float(couplings[i, j]) for i, j in pairs_of(model)}
+    names = [e.name for e in model.environments]
+    level = Level(mesh.node_count, mesh.triangle_count, heat_flow, l2d, psi, float(theta_min),
+                  pairs, dict(zip(names, map(float, flows))))
+    return level, balance if math.isfinite(balance) else 0.0
+
+
+def converge(model: Model, mesh_options: MeshOptions | None, element: str, tolerance: float,
+             max_nodes: int, method: str, flanking_ul: dict | None = None) -> StudyOutcome:
     """Run the study.
 
     Parameters
@@ -347,47 +438,47 @@ def converge(model, mesh_options: MeshOptions | None, element: str, tolerance: f
     model : Model
         Validated.
     mesh_options : MeshOptions or None
-        Options of the first (gmsh) mesh.
+        Options of the first (gmsh) mesh; default :data:`FIRST_MESH`.
     element : str
     tolerance : float
-        Target relative error of Ψ and L2D [-], > 0.
+        Target relative error of every L_ij and Ψ [-], > 0.
     max_nodes : int
         Node budget [-].
     method : str
         ``"adaptive"`` or ``"uniform"``.
-    solve_level : callable
-        ``solve_level(mesh) -> (heat_case, surface_case, problem, heat_field,
-        heat_conditions)``, supplied by the pipeline.
+    flanking_ul : dict, optional
+        Σ U·l [W/(m·K)] keyed None (the two-temperature Ψ) and by pair of
+        names (Ψ_ij), for the pairs flanking elements name.
 
     Returns
     -------
-    (heat_case, surface_case, mesh, ConvergenceStudy)
-        The cases and mesh of the finest level, and the study.
+    StudyOutcome
     """
     check_settings(tolerance, max_nodes, method)
+    flanking_ul = dict(flanking_ul or {})
     if method == "adaptive" and element != "P1":
         method = "uniform"                  # the residual estimator is for P1
     study = ConvergenceStudy(method, element, float(tolerance), int(max_nodes))
+    side = interior_side(model)
+    index_pairs = pairs_of(model)
+    energies: dict[tuple, list] = {}
     mesh: Mesh = build_mesh(model, mesh_options or FIRST_MESH)
+    cases = None
     stalled = 0
     imbalance = []
     while True:
-        heat, surface, problem, heat_field, conditions = solve_level(mesh)
-        interior = _interior_heat_flow(model, heat.heat_flow)
-        study.levels.append(Level(mesh.node_count, mesh.triangle_count, interior,
-                                  heat.coupling_coefficient, heat.psi, surface.theta_si_min))
-        imbalance.append(heat.balance if math.isfinite(heat.balance) else 0.0)
-        nodes = [lv.nodes for lv in study.levels]
-        study.coupling_coefficient = extrapolate(
-            nodes, [lv.coupling_coefficient for lv in study.levels], ELEMENT_RATE[element],
-            min(BALANCE_NOISE * max(imbalance[-3:]), NOISE_LIMIT))
-        if heat.psi is not None:
-            ul = heat.coupling_coefficient - heat.psi          # Σ U·l, exact
-            cc = study.coupling_coefficient
-            study.psi = Extrapolation(cc.value - ul, cc.error_estimate, cc.order, cc.fitted)
-        study.iso_doubling_change = _doubling_change(study.levels)
+        cases = solve_cases(model, mesh, element, cases)
+        level, balance = level_of(cases, side, flanking_ul)
+        study.levels.append(level)
+        imbalance.append(balance)
+        couplings = cases.heat.couplings
+        for members in [(i,) for i in range(len(model.environments))] + index_pairs:
+            energies.setdefault(members, []).append(cut_energy(couplings, members))
+        _extrapolate(study, model, side, energies, flanking_ul, imbalance)
+        study.iso_doubling_change = _doubling_change(study.levels, side, model)
+        controlled = study.controlled()
         rel = study.relative_errors()
-        fitted = study.coupling_coefficient.fitted
+        fitted = all(x.fitted for _, _, x, _ in controlled)
         within = (fitted and len(study.levels) >= 3
                   and all(v <= tolerance for v in rel.values()))
         iso_ok = study.iso_doubling_change is not None and \
@@ -408,22 +499,80 @@ def converge(model, mesh_options: MeshOptions | None, element: str, tolerance: f
                 "exact heat flow infinite. The values shown are those of the finest mesh; "
                 "there is no error estimate to rely on.")
             break
-        marked = (None if method == "uniform" else
-                  indicators.mark(indicators.energy_error_indicators(problem, heat_field, conditions)))
+        marked = None if method == "uniform" else indicators.mark(
+            _worst_indicators(cases, side, controlled))
         finer = refine(mesh, marked)
         if finer.node_count > max_nodes:
             study.stop_reason = (
                 f"the tolerance {tolerance:g} could not be reached within the node budget "
                 f"of {max_nodes} nodes (--max-nodes); the estimated relative errors are "
-                + ", ".join(f"{k.replace('coupling_coefficient', 'L2D').replace('psi', 'Ψ')} "
-                            f"{v:.2e}" for k, v in rel.items())
+                + ", ".join(f"{study.label(k)} {v:.2e}" for k, v in rel.items())
                 + ("" if iso_ok else "; the ISO 10211 doubling check is not met"))
             break
         mesh = finer
-    return heat, surface, mesh, study
+    return StudyOutcome(cases, mesh, study)
 
 
-def _doubling_change(levels) -> float | None:
+def _extrapolate(study: ConvergenceStudy, model: Model, side, energies: dict,
+                 flanking_ul: dict, imbalance: list) -> None:
+    """Every extrapolation of the study from its levels so far."""
+    nodes = [lv.nodes for lv in study.levels]
+    rate = ELEMENT_RATE[study.element]
+    noise = min(BALANCE_NOISE * max(imbalance[-3:]), NOISE_LIMIT)
+    fits = {members: extrapolate(nodes, values, rate, noise)
+            for members, values in energies.items()}
+    study.couplings = {}
+    study.pair_psi = {}
+    for i, j in pairs_of(model):
+        pair = pair_name(model, i, j)
+        x = coupling_from_energies(fits[(i,)], fits[(j,)], fits[(i, j)])
+        study.couplings[pair] = x
+        if pair in flanking_ul:
+            study.pair_psi[pair] = Extrapolation(x.value - flanking_ul[pair], x.error_estimate,
+                                                 x.order, x.fitted)
+    if side is not None:
+        cc = extrapolate(nodes, [lv.coupling_coefficient for lv in study.levels], rate, noise)
+        study.coupling_coefficient = cc
+        if None in flanking_ul:
+            study.psi = Extrapolation(cc.value - flanking_ul[None], cc.error_estimate,
+                                      cc.order, cc.fitted)
+    study.theta_si_min = extrapolate(nodes, [lv.theta_si_min for lv in study.levels], rate,
+                                     noise)
+
+
+def _worst_indicators(cases: UnitCases, side, controlled) -> np.ndarray:
+    """Error indicators of the fields that make up the quantity whose estimated
+    error is largest against the tolerance: the two-temperature model's
+    heat-flow field (scaled to 1 K) for L2D and Ψ; for L_ij of a pair, the
+    unit solutions u_i, u_j and u_i + u_j whose energies make it."""
+    worst = max(controlled, key=lambda c: (c[2].error_estimate / c[3] if c[3] else math.inf))
+    key, pair, _, _ = worst
+    problem = cases.problem
+    resistances = cases.heat.resistances
+    if pair is None:
+        theta_i, theta_e, _ = side
+        field_ = cases.heat.field(cases.temperatures)
+        temps = {e.name: e.temperature for e in cases.model.environments}
+        conditions = _conditions(cases.model, resistances, temps)
+        return indicators.energy_error_indicators(problem, field_, conditions) \
+            / (theta_i - theta_e) ** 2
+    names = cases.environments
+    i, j = names.index(pair[0]), names.index(pair[1])
+    eta = np.zeros(problem.mesh.triangle_count)
+    for members in ((i,), (j,), (i, j)):
+        field_ = cases.heat.combination(members)
+        temps = {name: (1.0 if k in members else 0.0) for k, name in enumerate(names)}
+        eta += indicators.energy_error_indicators(
+            problem, field_, _conditions(cases.model, resistances, temps))
+    return eta
+
+
+def _conditions(model: Model, resistances, temperatures: dict):
+    return [Condition(temperatures[s.environment], r) for s, r in zip(model.surfaces, resistances)]
+
+
+def _doubling_change(levels, side, model: Model) -> float | None:
+    """The ISO 10211 doubling check's relative change of the heat flow [-]."""
     if len(levels) < 2:
         return None
     final = levels[-1]
@@ -431,9 +580,19 @@ def _doubling_change(levels) -> float | None:
     for lv in levels[:-1]:
         if lv.triangles * 4 <= final.triangles:
             ref = lv
-    if final.heat_flow == 0:
+    if side is not None:
+        if final.heat_flow == 0:
+            return None
+        return abs(final.heat_flow - ref.heat_flow) / abs(final.heat_flow)
+    groups = {}
+    for e in model.environments:
+        groups.setdefault(e.temperature, []).append(e.name)
+    flows = [(sum(final.heat_flows[n] for n in names), sum(ref.heat_flows[n] for n in names))
+             for names in groups.values()]
+    scale = max(abs(f) for f, _ in flows)
+    if scale == 0:
         return None
-    return abs(final.heat_flow - ref.heat_flow) / abs(final.heat_flow)
+    return max(abs(f - r) for f, r in flows) / scale
 
 
 def check_settings(tolerance, max_nodes, method) -> None:

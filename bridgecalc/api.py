@@ -1,0 +1,120 @@
+"""What a user calls, from Python or through the command line.
+
+A Python session reads like the command line::
+
+    model = load("detail.toml")
+    result = run(model)
+    result.psi, result.coupling_coefficients
+    write_outputs(result, "detail-results")
+
+The path a model takes: :mod:`bridgecalc.readers` → :mod:`bridgecalc.model`
+(validated) → :mod:`bridgecalc.mesh` → :mod:`bridgecalc.solve` (one unit
+solution per environment) → :mod:`bridgecalc.study` (refined until every
+coupling coefficient is mesh-independent) → :mod:`bridgecalc.results` →
+:mod:`bridgecalc.outputs`.
+"""
+
+from __future__ import annotations
+
+from importlib import resources
+from pathlib import Path
+
+from .errors import ModelError
+from .mesh import MeshOptions, build_mesh
+from .model import Model
+from .model import rules as model_rules
+from .readers import read
+from .readers import script as scripts
+from .results import Result, build_result, flanking_sums
+from .solve.cases import solve_cases
+from .solve.linsolve import one_blas_thread
+from .study.convergence import DEFAULT_MAX_NODES, DEFAULT_TOLERANCE, converge
+
+#: The shipped geometry script the demo computes.
+DEMO_SCRIPT = "slab_edge.py"
+
+
+def load(path, settings=(), **params) -> Model:
+    """Read a model file (``.toml``) or build a geometry script (``.py``).
+
+    Parameters
+    ----------
+    path : str or Path
+    settings : sequence of str
+        ``NAME=VALUE`` parameters of a geometry script, as on the command
+        line (``--set``); each value is read as the type of its default.
+    **params
+        Geometry script parameters overriding its defaults.
+
+    Raises
+    ------
+    ModelError
+        When the file cannot be read or breaks a rule of the format.
+    """
+    path = Path(path)
+    if settings:
+        if path.suffix != ".py":
+            raise ModelError(f"{path}: --set applies to geometry scripts only, not model files")
+        module = scripts.load_module(path)
+        return scripts.build(path, {**scripts.parse_assignments(module, settings, path),
+                                    **params}, module)
+    return read(path, **params)
+
+
+def geometries_folder() -> Path:
+    """The junction library (geometry scripts) shipped with the package."""
+    return Path(str(resources.files("bridgecalc.geometries")))
+
+
+def demo_model() -> Model:
+    """The shipped demo junction."""
+    return load(geometries_folder() / DEMO_SCRIPT)
+
+
+def run(model: Model, mesh_options: MeshOptions | None = None, element: str = "P1", *,
+        tolerance: float = DEFAULT_TOLERANCE, max_nodes: int = DEFAULT_MAX_NODES,
+        refinement: str | None = "adaptive") -> Result:
+    """Mesh and solve a model until the answer no longer depends on the mesh.
+
+    Parameters
+    ----------
+    model : Model
+    mesh_options : MeshOptions, optional
+        Options of the first mesh of the study.
+    element : str
+        ``"P1"`` (default) or ``"P2"``.
+    tolerance : float
+        Target estimated relative error of every coupling coefficient and Ψ
+        [-] (default 1e-3).
+    max_nodes : int
+        Node budget of the convergence study [-].
+    refinement : str or None
+        ``"adaptive"`` (default; P2 studies refine uniformly), ``"uniform"``,
+        or None for one mesh without a study (``convergence`` is then None).
+
+    Returns
+    -------
+    Result
+        Fields and heat flows of the finest mesh; the coupling coefficients,
+        Ψ and L2D are the study's best (extrapolated) estimates (see
+        :mod:`bridgecalc.study.convergence`).
+    """
+    with one_blas_thread():
+        return _run(model, mesh_options, element, tolerance, max_nodes, refinement)
+
+
+def _run(model, mesh_options, element, tolerance, max_nodes, refinement) -> Result:
+    model_rules.validate(model)
+    unfaced = model_rules.unfaced_sides(model)   # these fail before meshing
+    if "interior" in unfaced:
+        raise ModelError(unfaced["interior"])
+    sides = model_rules.two_temperature_sides(model)
+    if sides is not None:
+        model_rules.check_temperature_difference(model, *sides)
+    warnings = list(unfaced.values())
+    if refinement is None:
+        cases = solve_cases(model, build_mesh(model, mesh_options), element)
+        return build_result(cases, None, element, warnings)
+    outcome = converge(model, mesh_options, element, tolerance, max_nodes, refinement,
+                       flanking_sums(model))
+    return build_result(outcome.cases, outcome.study, element, warnings)
