@@ -41,7 +41,7 @@ import numpy as np
 import scipy.sparse.linalg as spla
 from skfem import Basis, ElementTriP1
 
-from bridgecalc import validation
+from bridgecalc.validation import cases as validation
 from bridgecalc.api import load, run
 from bridgecalc.mesh import MeshOptions, build_mesh, refine
 from bridgecalc.results import flanking_results

@@ -22,7 +22,7 @@ import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
 import bridgecalc
-from bridgecalc import validation
+from bridgecalc.validation import cases as validation
 from bridgecalc.study.convergence import FIRST_MESH
 from bridgecalc.mesh import build_mesh
 

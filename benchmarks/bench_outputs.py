@@ -59,7 +59,7 @@ def main() -> int:
     root = Path(__file__).resolve().parent.parent
 
     start = time.perf_counter()
-    from bridgecalc import stamp
+    from bridgecalc.validation import stamp
     cached = stamp.load_cached() is not None
     stamp.current_stamp()
     print(f"validation stamp: {'cached' if cached else 'computed now'} "

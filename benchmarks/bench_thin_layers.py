@@ -59,7 +59,7 @@ import scipy.sparse.linalg as spla
 from skfem import Basis, BilinearForm, ElementTriP1, FacetBasis, LinearForm, MeshTri, asm
 from skfem.helpers import dot, grad
 
-from bridgecalc import validation
+from bridgecalc.validation import cases as validation
 from bridgecalc.solve import linsolve
 from bridgecalc.study.convergence import FIRST_MESH
 from bridgecalc.readers.modelfile import loads

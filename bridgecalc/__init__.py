@@ -11,13 +11,13 @@ fRsi (or, with more than two temperatures, the temperature weighting factors)::
     result.psi, result.f_rsi, result.coupling_coefficients
 """
 
-from .api import load, run
-from .errors import BridgecalcError, ModelError
+__version__ = "0.1.0"
+
+from .api import load, run  # noqa: E402
+from .errors import BridgecalcError, ModelError  # noqa: E402
 from .model import (AirLayer, Environment, Flanking, Layer, Material, Model, Probe, Region,
                     Surface)
-from .results import Result
-
-__version__ = "0.1.0"
+from .results import Result  # noqa: E402
 
 __all__ = [
     "BridgecalcError", "ModelError", "AirLayer", "Environment", "Flanking", "Layer",

@@ -206,7 +206,7 @@ _REPORT_STATE: dict = {}   # the helper's own: the stamp once known
 def _other_files():
     """field.vtu and results.csv; the stamp; the PDF libraries loaded. Returns the stamp."""
     from . import exports, pdfreport, report
-    from . import stamp as stamps
+    from .validation import stamp as stamps
     result, staging, options = _REPORT
     exports.write_vtu(result, staging / exports.VTU_FILE)
     system, _ = report.stated_dimension_system(result.model, options["dimension_system"])
@@ -283,7 +283,7 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
         Step between isotherms [K].
     dimension_system : str, optional
         As stated by a geometry script (``DIMENSION_SYSTEM``).
-    stamp : bridgecalc.stamp.Stamp or False, optional
+    stamp : bridgecalc.validation.stamp.Stamp or False, optional
         The validation stamp; default the cached one of this build (running
         the checks once if there is none); False leaves it out.
     workers : int, optional

@@ -257,7 +257,7 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
         PNG file per figure name (:func:`bridgecalc.figures.figure_names`).
     f_rsi_min : float, optional
         The user's fRsi criterion [-].
-    stamp : bridgecalc.stamp.Stamp, optional
+    stamp : bridgecalc.validation.stamp.Stamp, optional
         The validation stamp; None says the checks were not run.
     dimension_system : str, optional
         As stated by a geometry script.

@@ -12,7 +12,7 @@ import numpy as np
 import pytest
 
 
-from bridgecalc import validation
+from bridgecalc.validation import cases as validation
 from bridgecalc.mesh import refinement
 from bridgecalc.study import indicators
 from bridgecalc.mesh import build_mesh

@@ -24,7 +24,7 @@ import math
 import numpy as np
 import pytest
 
-from bridgecalc import validation
+from bridgecalc.validation import cases as validation
 from bridgecalc.mesh import refinement
 from bridgecalc.study import indicators
 from bridgecalc.study import convergence

@@ -14,7 +14,7 @@ import numpy as np
 import pytest
 
 from bridgecalc import ModelError
-from bridgecalc import validation
+from bridgecalc.validation import cases as validation
 from bridgecalc.mesh import MeshOptions
 from bridgecalc.model import Environment, Flanking, Probe, Region, Surface
 from bridgecalc.outputs import results_json

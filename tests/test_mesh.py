@@ -7,7 +7,7 @@ import math
 import numpy as np
 import pytest
 
-from bridgecalc import validation
+from bridgecalc.validation import cases as validation
 from bridgecalc.study import convergence
 from bridgecalc.mesh import build as mesh_module
 from bridgecalc.errors import ModelError

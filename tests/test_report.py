@@ -18,7 +18,8 @@ import numpy as np
 import pytest
 from PIL import Image
 
-from bridgecalc import outputs, report, stamp as stamps
+from bridgecalc import outputs, report
+from bridgecalc.validation import stamp as stamps
 from bridgecalc.cli import main
 from bridgecalc.errors import BridgecalcError
 from bridgecalc.api import load, run
@@ -416,7 +417,7 @@ def test_a_failure_while_writing_leaves_nothing(demo, tmp_path, monkeypatch):
 
 def test_stamp_is_cached_per_build(tmp_path, monkeypatch):
     monkeypatch.setenv("BRIDGECALC_CACHE_DIR", str(tmp_path))
-    from bridgecalc.validation import CheckRow
+    from bridgecalc.validation.cases import CheckRow
     calls = []
 
     def checks():

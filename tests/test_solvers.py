@@ -13,7 +13,7 @@ import pytest
 import scipy.sparse.linalg as spla
 from skfem import Basis, ElementTriP1, FacetBasis
 
-from bridgecalc import validation
+from bridgecalc.validation import cases as validation
 from bridgecalc.mesh import refinement
 from bridgecalc.study import indicators
 from bridgecalc.solve import linsolve

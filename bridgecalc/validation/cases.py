@@ -34,8 +34,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .physics.iso6946 import u_value_plane_layers
-from .model import Environment, Flanking, Layer, Material, Model, Probe, Region, Surface
+from ..model import Environment, Flanking, Layer, Material, Model, Probe, Region, Surface
+from ..physics.iso6946 import u_value_plane_layers
 
 
 @dataclass(frozen=True)
@@ -270,7 +270,7 @@ CHECKS = (check_case1, check_case2, check_layers, check_source)
 def run_checks(run=None) -> list[CheckRow]:
     """Run every validation case with default settings."""
     if run is None:
-        from .api import run
+        from ..api import run
     rows = []
     for check in CHECKS:
         rows.extend(check(run))

@@ -22,7 +22,7 @@ from dataclasses import asdict, dataclass, field
 from importlib import metadata
 from pathlib import Path
 
-from . import __version__
+from .. import __version__
 
 STAMP_FORMAT = 1
 LIBRARIES = ("numpy", "scipy", "scikit-fem", "gmsh")
@@ -92,7 +92,7 @@ def cache_key() -> str:
     """SHA-256 over the version, the package's .py files and the solver libraries."""
     digest = hashlib.sha256()
     digest.update(f"bridgecalc {__version__}\n".encode())
-    package = Path(__file__).resolve().parent
+    package = Path(__file__).resolve().parent.parent
     for path in sorted(package.rglob("*.py")):
         name = path.relative_to(package).as_posix()
         digest.update(name.encode() + b"\0" + path.read_bytes() + b"\0")
@@ -172,7 +172,7 @@ def current_stamp(run_checks=None) -> Stamp:
     if cached is not None:
         return cached
     if run_checks is None:
-        from .validation import run_checks
+        from .cases import run_checks
     stamp = stamp_from_rows(run_checks())
     save(stamp)
     return stamp
