@@ -28,7 +28,7 @@ import pytest
 
 from bridgecalc.cli import main
 from bridgecalc.api import load, run
-from bridgecalc import sweep as sweep_module
+from bridgecalc.sweep import runner as sweep_runner
 from bridgecalc.sweep import CSV_FILE, FIGURE_FILE, NOTES_FILE, run_variant, sweep
 
 from conftest import GEOMETRIES
@@ -225,7 +225,7 @@ def test_out_is_a_file_exit_2(tmp_path, capsys):
 
 def test_unreachable_scheduler_exit_2(tmp_path, monkeypatch, capsys):
     monkeypatch.chdir(tmp_path)
-    monkeypatch.setattr(sweep_module, "CONNECT_TIMEOUT_S", 1.0)
+    monkeypatch.setattr(sweep_runner, "CONNECT_TIMEOUT_S", 1.0)
     address = f"tcp://127.0.0.1:{_closed_port()}"
     code = main(["sweep", str(BALCONY), "--vary", "thermal_break=false,true",
                  "--scheduler", address])
