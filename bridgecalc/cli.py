@@ -237,7 +237,7 @@ def command_sweep(args) -> int:
 
 def _terminated(signum, frame):
     """SIGTERM as SystemExit, so a run being written removes its staging folder."""
-    from .outputs import STOP
+    from .outputs.folder import STOP
     STOP["status"] = 128 + signum
     raise SystemExit(128 + signum)
 
@@ -262,7 +262,7 @@ def main(argv=None) -> int:
     finally:
         if previous is not None:
             signal.signal(signal.SIGTERM, previous)
-        from .outputs import STOP
+        from .outputs.folder import STOP
         if STOP["status"] is not None:         # the exception was swallowed somewhere
             status, STOP["status"] = STOP["status"], None
             raise SystemExit(status)

@@ -1,7 +1,4 @@
-"""Writing a run's outputs whole or not at all.
-
-Everything is written into a temporary folder beside the destination and
-moved into place at the end, so a failed run leaves nothing half-written.
+"""Writing a run's outputs: what is written, by which process, in what order.
 
 Files of one run (:func:`write_outputs`)::
 
@@ -12,45 +9,28 @@ Files of one run (:func:`write_outputs`)::
     report.pdf              the same report as PDF
     materials.{png,svg,pdf} and mesh, temperature, heat_flux, surface_temperature
 
-Where the platform can fork, the fifteen figure files (most of the time of
-the outputs) are drawn in two worker processes, and a helper process writes
-the other files meanwhile: it is forked first, so it writes field.vtu and
-loads the PDF libraries while matplotlib is imported here, then lays out
-report.pdf while the figures are drawn; the figures' own PDF pages go into
-it at the end.
+All of them are written into a staging folder that is moved into place at
+the end (:func:`bridgecalc.outputs.folder.staged_folder`). Where the platform
+can fork, the fifteen figure files (most of the time of the outputs) are
+drawn in two worker processes, and a helper process writes the other files
+meanwhile: it is forked first, so it writes field.vtu and loads the PDF
+libraries while matplotlib is imported here, then lays out report.pdf while
+the figures are drawn; the figures' own PDF pages go into it at the end.
 """
 
 from __future__ import annotations
 
-import contextlib
-import json
 import math
-import multiprocessing
-import os
-import shutil
-import socket
-import sys
-import tempfile
-from concurrent.futures import Future, ProcessPoolExecutor
-from glob import escape as glob_escape
 from pathlib import Path
 
-from . import __version__
-from .errors import BridgecalcError
+from .. import __version__
+from ..errors import BridgecalcError
+from .folder import staged_folder
+from .results_file import RESULTS_FILE, results_json
+from .workers import Helper, can_fork, default_workers, fork_pool
 
-RESULTS_FILE = "results.json"
 REPORT_FILE = "report.html"
 REPORT_PDF_FILE = "report.pdf"
-
-
-def results_json(result, data=None) -> str:
-    """results.json text: deterministic (fixed key order and float repr) and
-    valid JSON (no NaN or Infinity; ``run`` refuses non-finite results).
-
-    ``data``: ``result.to_dict()`` when the caller has it already.
-    """
-    return json.dumps(result.to_dict() if data is None else data, indent=2,
-                      ensure_ascii=False, allow_nan=False) + "\n"
 
 
 def check_options(f_rsi_min=None, isotherm_step=None, model=None) -> None:
@@ -81,8 +61,8 @@ def check_options(f_rsi_min=None, isotherm_step=None, model=None) -> None:
             raise BridgecalcError(f"--isotherm-step must be a positive number of kelvin, "
                                   f"got {isotherm_step!r}")
         if model is not None:
-            from .figures import MAX_ISOTHERMS
-            from .results import design_temperatures
+            from ..figures import MAX_ISOTHERMS
+            from ..results import design_temperatures
             theta_i, theta_e = design_temperatures(model)
             span = abs(theta_i - theta_e)
             if span / isotherm_step > MAX_ISOTHERMS:
@@ -98,7 +78,7 @@ _JOB = None   # (result, folder, options) inherited by forked workers
 
 
 def _draw(name, formats=None):
-    from . import figures
+    from .. import figures
     result, folder, options = _JOB
     fig = figures.build_figure(name, result, **options)
     try:
@@ -106,43 +86,6 @@ def _draw(name, formats=None):
                                                    formats or figures.FORMATS)]
     finally:
         figures.plt.close(fig)
-
-
-def end_with_parent(parent: int) -> None:
-    """Process-pool initializer: this worker ends when process ``parent`` does.
-
-    A pool's workers wait on a queue the parent feeds; killed outright
-    (SIGKILL, out-of-memory), the parent cannot stop them and they would wait
-    for ever. On Linux the kernel sends them SIGKILL when it dies
-    (prctl PR_SET_PDEATHSIG); a parent already gone before that ends the
-    worker at once. Elsewhere nothing changes.
-    """
-    if sys.platform.startswith("linux"):
-        import ctypes
-        import signal
-        try:
-            libc = ctypes.CDLL(None, use_errno=True)
-            libc.prctl(1, int(signal.SIGKILL), 0, 0, 0)      # 1: PR_SET_PDEATHSIG
-        except (OSError, AttributeError):                    # pragma: no cover
-            return
-    if os.getppid() != parent:
-        os._exit(1)
-
-
-def _fork_pool(workers: int) -> ProcessPoolExecutor:
-    """A pool of ``workers`` forked processes that end with this one."""
-    return ProcessPoolExecutor(max_workers=workers,
-                               mp_context=multiprocessing.get_context("fork"),
-                               initializer=end_with_parent, initargs=(os.getpid(),))
-
-
-def _can_fork() -> bool:
-    return sys.platform.startswith("linux") and "fork" in multiprocessing.get_all_start_methods()
-
-
-def default_workers() -> int:
-    """Figure processes: 2 where forking is available and there is more than one core."""
-    return 2 if (_can_fork() and (os.cpu_count() or 1) > 1) else 1
 
 
 #: Drawing tasks for worker processes, (figure, formats or None for all), from the
@@ -170,7 +113,7 @@ def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=Non
         each in :data:`bridgecalc.figures.FORMATS` order.
     """
     global _JOB
-    from . import figures
+    from .. import figures
     options = {"isotherm_step": isotherm_step, "f_rsi_min": f_rsi_min}
     if workers is None:
         workers = default_workers()
@@ -178,11 +121,11 @@ def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=Non
     names = figures.figure_names(result)
     written: dict = {n: [] for n in names}
     try:
-        if workers > 1 and _can_fork():
+        if workers > 1 and can_fork():
             tasks = [t for t in DRAWING_TASKS if t[0] in written]
             tasks += [(n, None) for n in names if n not in {t[0] for t in tasks}]
             figures.prepare()                 # once here, not once per worker
-            with _fork_pool(workers) as pool:
+            with fork_pool(workers) as pool:
                 futures = [pool.submit(_draw, *task) for task in tasks]
                 for future in futures:
                     name, paths = future.result()
@@ -205,8 +148,9 @@ _REPORT_STATE: dict = {}   # the helper's own: the stamp once known
 
 def _other_files():
     """field.vtu and results.csv; the stamp; the PDF libraries loaded. Returns the stamp."""
-    from . import exports, pdfreport, report
-    from . import stamp as stamps
+    from .. import pdfreport, report
+    from .. import stamp as stamps
+    from . import exports
     result, staging, options = _REPORT
     exports.write_vtu(result, staging / exports.VTU_FILE)
     system, _ = report.stated_dimension_system(result.model, options["dimension_system"])
@@ -226,7 +170,7 @@ def _report_pdf_pages(figure_pngs, figure_sizes, files):
 
     Returns the content and where the figures go (for :func:`_report_pdf_figures`).
     """
-    from . import pdfreport, report
+    from .. import pdfreport, report
     result, staging, options = _REPORT
     content = report.report_content(
         result, figure_pngs, options["f_rsi_min"], _REPORT_STATE["stamp"] or None,
@@ -235,34 +179,9 @@ def _report_pdf_pages(figure_pngs, figure_sizes, files):
 
 
 def _report_pdf_figures(placed):
-    from . import pdfreport
+    from .. import pdfreport
     _, staging, _ = _REPORT
     pdfreport.stamp_figures(staging / REPORT_PDF_FILE, placed)
-
-
-class _Helper:
-    """One forked process for the files other than figures, or this process.
-
-    Forked before matplotlib is imported, it writes field.vtu and results.csv
-    and loads the PDF libraries while this process imports matplotlib, and
-    lays out report.pdf while the figures are drawn. Calls run in order.
-    """
-
-    def __init__(self, forked: bool):
-        self.pool = None
-        if forked:
-            self.pool = _fork_pool(1)
-
-    def submit(self, fn, *args):
-        if self.pool is not None:
-            return self.pool.submit(fn, *args)
-        done: Future = Future()
-        done.set_result(fn(*args))
-        return done
-
-    def close(self):
-        if self.pool is not None:
-            self.pool.shutdown(wait=True, cancel_futures=True)
 
 
 # -- the whole set ------------------------------------------------------------------
@@ -305,10 +224,11 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
         (staging / RESULTS_FILE).write_text(results_json(result, data), encoding="utf-8")
         _REPORT = (result, staging, {"f_rsi_min": f_rsi_min, "stamp": stamp, "data": data,
                                      "dimension_system": dimension_system})
-        helper = _Helper(forked=workers > 1 and _can_fork())
+        helper = Helper(forked=workers > 1 and can_fork())
         try:
             other = helper.submit(_other_files)
-            from . import exports, figures, report
+            from .. import figures, report
+            from . import exports
             names = list(figures.figure_names(result))
             pngs = {n: staging / f"{n}.png" for n in names}
             sizes = {n: figures.figure_size(n, result) for n in names}
@@ -326,90 +246,3 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
             _REPORT = None
             _REPORT_STATE.clear()
     return out_dir
-
-
-#: Exit status asked for by a termination signal (set by the command line's
-#: handler), or None. The handler raises SystemExit at once, but Python ignores
-#: an exception raised inside an at-fork callback, so a signal arriving while a
-#: worker process is forked would be lost; a folder is therefore never put in
-#: place once this is set.
-STOP: dict = {"status": None}
-
-
-@contextlib.contextmanager
-def staged_folder(out_dir):
-    """A staging folder whose files land in ``out_dir`` only if the block succeeds.
-
-    The staging folder is made beside ``out_dir`` (same file system, so the
-    move is a rename). On success it becomes ``out_dir``, or, when that exists,
-    its files replace those of the same names there; on any failure it is
-    removed and nothing of the run remains. The folder gets the permissions
-    the user's umask gives a new folder (a temporary folder starts as 0700).
-
-    Parameters
-    ----------
-    out_dir : str or Path
-    """
-    out_dir = Path(out_dir)
-    out_dir.parent.mkdir(parents=True, exist_ok=True)
-    _remove_abandoned_staging(out_dir)
-    staging = Path(tempfile.mkdtemp(prefix=_staging_prefix(out_dir) + f"{os.getpid()}.",
-                                    dir=out_dir.parent))
-    try:
-        yield staging
-        if STOP["status"] is not None:
-            raise SystemExit(STOP["status"])
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(staging, 0o777 & ~umask)
-        if not out_dir.exists():
-            os.replace(staging, out_dir)
-        else:
-            items = sorted(staging.iterdir())
-            # every file must be able to replace its namesake before any does
-            for item in items:
-                if (out_dir / item.name).is_dir():
-                    raise BridgecalcError(f"--out {out_dir}: {out_dir / item.name} is a "
-                                          f"folder, so the run's {item.name} cannot replace "
-                                          f"it; move it away or choose another --out")
-            for item in items:
-                os.replace(item, out_dir / item.name)
-            staging.rmdir()
-    except BaseException:
-        shutil.rmtree(staging, ignore_errors=True)
-        raise
-
-
-def _staging_prefix(out_dir: Path) -> str:
-    """Start of the names of staging folders for ``out_dir`` made on this
-    machine; the process id and a random part follow."""
-    host = "".join(c if c.isalnum() or c == "-" else "_" for c in socket.gethostname())
-    return f".{out_dir.name}.{host or 'host'}."
-
-
-def _remove_abandoned_staging(out_dir: Path) -> None:
-    """Remove staging folders for ``out_dir`` left by runs killed outright
-    (SIGKILL, out of memory), which could not remove their own: those made on
-    this machine by a process that no longer exists. Folders of live
-    processes, and of other machines sharing the file system, are kept."""
-    prefix = _staging_prefix(out_dir)
-    for folder in out_dir.parent.glob(glob_escape(prefix) + "*"):
-        pid_text = folder.name[len(prefix):].split(".", 1)[0]
-        if not (folder.is_dir() and not folder.is_symlink() and pid_text.isdigit()):
-            continue
-        try:
-            os.kill(int(pid_text), 0)
-        except ProcessLookupError:
-            shutil.rmtree(folder, ignore_errors=True)
-        except (PermissionError, OverflowError, OSError):
-            pass                       # alive under another user, or not a pid here
-
-
-def fresh_folder(base: Path) -> Path:
-    """``base`` if it does not exist yet, else ``base-2``, ``base-3``, ..."""
-    if not base.exists():
-        return base
-    k = 2
-    while (candidate := base.with_name(f"{base.name}-{k}")).exists():
-        k += 1
-    return candidate
