@@ -538,7 +538,7 @@ def sweep_figure(rows: list[VariantResult], varied: list[str], title: str = ""):
     combination of the other varied parameters is one line. Without flanking
     elements L2D is plotted instead of Ψ. Failed variants leave gaps.
     """
-    from . import figures                   # the house style; Agg backend
+    from .outputs import figures            # the house style; Agg backend
     plt = figures.plt
     ok = [r for r in rows if r.ok]
     use_psi = any(r.psi is not None for r in ok)
@@ -641,7 +641,7 @@ def write_sweep(rows: list[VariantResult], out_dir, script, vary: dict | None = 
     -------
     Path
     """
-    from . import figures
+    from .outputs import figures
     module = scripts.load_module(script)
     if vary is None:
         names = list(rows[0].params) if rows else []

@@ -238,14 +238,6 @@ def test_pdf_and_html_are_repeatable(demo, written, tmp_path):
     assert pdfs[0] == pdfs[1]
 
 
-def test_the_temperature_figure_coarsens_a_step_finer_than_its_line_limit():
-    from bridgecalc import figures
-    levels, step = figures.isotherm_levels(0.0, 3e28, 2.0)     # a 1e30 W/m³ heat source
-    assert step == pytest.approx(2e26) and len(levels) <= figures.MAX_ISOTHERMS
-    levels, step = figures.isotherm_levels(0.3, 19.6, 2.0)
-    assert step == 2.0 and list(levels) == pytest.approx([2, 4, 6, 8, 10, 12, 14, 16, 18])
-
-
 def test_very_long_names_still_give_a_pdf(geometries, tmp_path):
     """A 5000-character flanking name made a table row taller than a page
     (ReportLab's LayoutError); the PDF shortens such a cell, the HTML keeps it

@@ -42,7 +42,7 @@ def check_options(f_rsi_min=None, isotherm_step=None, model=None) -> None:
         [-]
     isotherm_step : float, optional
         [K]; with ``model``, it must give at most
-        :data:`bridgecalc.figures.MAX_ISOTHERMS` isotherms between θe and θi.
+        :data:`bridgecalc.outputs.figures.MAX_ISOTHERMS` isotherms between θe and θi.
     model : Model, optional
 
     Raises
@@ -61,7 +61,7 @@ def check_options(f_rsi_min=None, isotherm_step=None, model=None) -> None:
             raise BridgecalcError(f"--isotherm-step must be a positive number of kelvin, "
                                   f"got {isotherm_step!r}")
         if model is not None:
-            from ..figures import MAX_ISOTHERMS
+            from .figures import MAX_ISOTHERMS
             from ..results import design_temperatures
             theta_i, theta_e = design_temperatures(model)
             span = abs(theta_i - theta_e)
@@ -78,7 +78,7 @@ _JOB = None   # (result, folder, options) inherited by forked workers
 
 
 def _draw(name, formats=None):
-    from .. import figures
+    from . import figures
     result, folder, options = _JOB
     fig = figures.build_figure(name, result, **options)
     try:
@@ -109,11 +109,11 @@ def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=Non
     Returns
     -------
     dict of str to list of Path
-        Files per figure name, in :func:`bridgecalc.figures.figure_names` order,
-        each in :data:`bridgecalc.figures.FORMATS` order.
+        Files per figure name, in :func:`.figures.figure_names` order, each in
+        :data:`.figures.FORMATS` order.
     """
     global _JOB
-    from .. import figures
+    from . import figures
     options = {"isotherm_step": isotherm_step, "f_rsi_min": f_rsi_min}
     if workers is None:
         workers = default_workers()
@@ -227,8 +227,8 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
         helper = Helper(forked=workers > 1 and can_fork())
         try:
             other = helper.submit(_other_files)
-            from .. import figures, report
-            from . import exports
+            from .. import report
+            from . import exports, figures
             names = list(figures.figure_names(result))
             pngs = {n: staging / f"{n}.png" for n in names}
             sizes = {n: figures.figure_size(n, result) for n in names}

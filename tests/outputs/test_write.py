@@ -93,7 +93,7 @@ def test_a_failure_while_writing_leaves_nothing(demo, tmp_path, monkeypatch):
 
 
 def test_a_figure_failing_in_a_worker_process_leaves_nothing(demo, tmp_path, monkeypatch):
-    from bridgecalc import figures
+    from bridgecalc.outputs import figures
     if not workers.can_fork():
         pytest.skip("figure workers need fork")
     real = figures.build_figure

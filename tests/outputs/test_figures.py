@@ -9,7 +9,8 @@ import numpy as np
 import pytest
 from PIL import Image
 
-from bridgecalc import figures
+from bridgecalc.outputs import figures
+from bridgecalc.outputs.figures import files, raster
 from bridgecalc.pipeline import load, run
 
 
@@ -146,7 +147,7 @@ def test_png_writer_round_trips_through_an_independent_decoder(tmp_path, channel
     pixels = rng.integers(0, 256, size=(37, 53, channels), dtype=np.uint8)
     pixels[10:20, 5:40] = 200                       # a flat patch, as figures have
     path = tmp_path / "x.png"
-    path.write_bytes(figures.png_bytes(pixels, 300))
+    path.write_bytes(files.png_bytes(pixels, 300))
     with Image.open(path) as im:
         assert im.mode == ("RGB" if channels == 3 else "RGBA")
         assert im.info["dpi"][0] == pytest.approx(300, abs=0.5)
@@ -160,19 +161,19 @@ def test_field_sampling_reproduces_a_linear_field_exactly(demo):
     lo, hi = xy.min(axis=0), xy.max(axis=0)
     gx = np.linspace(lo[0] - 50, hi[0] + 50, 97)
     gy = np.linspace(lo[1] - 50, hi[1] + 50, 131)
-    cells = figures.cells_on_grid(xy, demo.mesh.triangles, gx, gy)
+    cells = raster.cells_on_grid(xy, demo.mesh.triangles, gx, gy)
     px, py = np.meshgrid(gx, gy)
     inside = cells >= 0
     assert 0.2 < inside.mean() < 0.9
     # points beyond the bounding box of the section lie in no triangle
     outside_box = (px < lo[0]) | (px > hi[0]) | (py < lo[1]) | (py > hi[1])
     assert not inside[outside_box].any()
-    values = figures._linear_in_cells(xy, demo.mesh.triangles, nodal, cells[inside],
-                                      px[inside], py[inside])
+    values = raster.linear_in_cells(xy, demo.mesh.triangles, nodal, cells[inside],
+                                    px[inside], py[inside])
     exact = 0.03 * px[inside] - 0.02 * py[inside] + 5.0
     assert np.max(np.abs(values - exact)) < 1e-9
     # each found triangle really contains its point (barycentric coordinates in [0, 1])
-    maps = figures.barycentric_maps(xy, demo.mesh.triangles)[cells[inside]]
+    maps = raster.barycentric_maps(xy, demo.mesh.triangles)[cells[inside]]
     lam1 = maps[:, 0, 0] * px[inside] + maps[:, 0, 1] * py[inside] + maps[:, 0, 2]
     lam2 = maps[:, 1, 0] * px[inside] + maps[:, 1, 1] * py[inside] + maps[:, 1, 2]
     assert lam1.min() > -1e-8 and lam2.min() > -1e-8 and (lam1 + lam2).max() < 1 + 1e-8
@@ -216,6 +217,13 @@ def test_isotherm_labels_sit_on_their_own_isotherm_and_apart(demo):
                 assert not a.overlaps(b), (a, b)
     finally:
         figures.plt.close(fig)
+
+
+def test_the_temperature_figure_coarsens_a_step_finer_than_its_line_limit():
+    levels, step = figures.isotherm_levels(0.0, 3e28, 2.0)     # a 1e30 W/m³ heat source
+    assert step == pytest.approx(2e26) and len(levels) <= figures.MAX_ISOTHERMS
+    levels, step = figures.isotherm_levels(0.3, 19.6, 2.0)
+    assert step == 2.0 and list(levels) == pytest.approx([2, 4, 6, 8, 10, 12, 14, 16, 18])
 
 
 def test_long_titles_are_fitted_to_the_figure(demo):
