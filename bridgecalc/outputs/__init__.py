@@ -13,6 +13,10 @@ Modules, each with one job:
     results.json text.
 ``exports``
     field.vtu and results.csv, for other programs.
+``figures/``
+    the figures, one module per kind, and their files.
+``report/``
+    the report's content, built once, rendered to report.html and report.pdf.
 
 They read results and never recompute physics. Importing this package does
 not import matplotlib or ReportLab: a helper process is forked before they
@@ -20,9 +24,10 @@ load.
 """
 
 from .folder import fresh_folder, staged_folder
+from .report import REPORT_FILE, REPORT_PDF_FILE
 from .results_file import RESULTS_FILE, results_json
 from .workers import end_with_parent
-from .write import REPORT_FILE, REPORT_PDF_FILE, check_options, write_outputs
+from .write import check_options, write_outputs
 
 __all__ = ["RESULTS_FILE", "REPORT_FILE", "REPORT_PDF_FILE", "check_options",
            "end_with_parent", "fresh_folder", "results_json", "staged_folder",

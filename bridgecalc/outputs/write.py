@@ -26,11 +26,12 @@ from pathlib import Path
 from .. import __version__
 from ..errors import BridgecalcError
 from .folder import staged_folder
+from .report import pdf as report_pdf
+from .report.content import report_content, stated_dimension_system
+from .report.html import REPORT_FILE, render_html
+from .report.pdf import REPORT_PDF_FILE
 from .results_file import RESULTS_FILE, results_json
 from .workers import Helper, can_fork, default_workers, fork_pool
-
-REPORT_FILE = "report.html"
-REPORT_PDF_FILE = "report.pdf"
 
 
 def check_options(f_rsi_min=None, isotherm_step=None, model=None) -> None:
@@ -148,12 +149,11 @@ _REPORT_STATE: dict = {}   # the helper's own: the stamp once known
 
 def _other_files():
     """field.vtu and results.csv; the stamp; the PDF libraries loaded. Returns the stamp."""
-    from .. import pdfreport, report
     from .. import stamp as stamps
     from . import exports
     result, staging, options = _REPORT
     exports.write_vtu(result, staging / exports.VTU_FILE)
-    system, _ = report.stated_dimension_system(result.model, options["dimension_system"])
+    system, _ = stated_dimension_system(result.model, options["dimension_system"])
     (staging / exports.CSV_FILE).write_text(
         exports.csv_text(exports.headline_row(result, options["f_rsi_min"], system,
                                               __version__)), encoding="utf-8")
@@ -161,7 +161,7 @@ def _other_files():
     if stamp is None:
         stamp = stamps.current_stamp()
     _REPORT_STATE["stamp"] = stamp
-    pdfreport.prepare()
+    report_pdf.prepare()
     return stamp
 
 
@@ -170,18 +170,16 @@ def _report_pdf_pages(figure_pngs, figure_sizes, files):
 
     Returns the content and where the figures go (for :func:`_report_pdf_figures`).
     """
-    from .. import pdfreport, report
     result, staging, options = _REPORT
-    content = report.report_content(
+    content = report_content(
         result, figure_pngs, options["f_rsi_min"], _REPORT_STATE["stamp"] or None,
         options["dimension_system"], files, options["data"], figure_sizes)
-    return content, pdfreport.lay_out(content, staging / REPORT_PDF_FILE)
+    return content, report_pdf.lay_out(content, staging / REPORT_PDF_FILE)
 
 
 def _report_pdf_figures(placed):
-    from .. import pdfreport
     _, staging, _ = _REPORT
-    pdfreport.stamp_figures(staging / REPORT_PDF_FILE, placed)
+    report_pdf.stamp_figures(staging / REPORT_PDF_FILE, placed)
 
 
 # -- the whole set ------------------------------------------------------------------
@@ -227,7 +225,6 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
         helper = Helper(forked=workers > 1 and can_fork())
         try:
             other = helper.submit(_other_files)
-            from .. import report
             from . import exports, figures
             names = list(figures.figure_names(result))
             pngs = {n: staging / f"{n}.png" for n in names}
@@ -239,7 +236,7 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
             other.result()
             content, placed = pages.result()
             figures_in = helper.submit(_report_pdf_figures, placed)
-            (staging / REPORT_FILE).write_text(report.render_html(content), encoding="utf-8")
+            (staging / REPORT_FILE).write_text(render_html(content), encoding="utf-8")
             figures_in.result()
         finally:
             helper.close()

@@ -17,7 +17,8 @@ import numpy as np
 import pytest
 from PIL import Image
 
-from bridgecalc import outputs, report, stamp as stamps
+from bridgecalc import outputs, stamp as stamps
+from bridgecalc.outputs import report
 from bridgecalc.pipeline import load, run
 
 CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")
@@ -45,13 +46,13 @@ def written(demo, tmp_path_factory):
 def _text(content):
     parts = []
     for b in content.blocks:
-        if isinstance(b, report.Table):
+        if isinstance(b, report.blocks.Table):
             parts += b.header + [c for row in b.rows for c in row] + [b.caption]
-        elif isinstance(b, report.KeyFigures):
+        elif isinstance(b, report.blocks.KeyFigures):
             parts += [" ".join(item) for item in b.items]
         elif hasattr(b, "text"):
             parts.append(b.text)
-        elif isinstance(b, report.Figure):
+        elif isinstance(b, report.blocks.Figure):
             parts.append(b.caption)
     return "\n".join(parts)
 
@@ -95,9 +96,9 @@ def test_html_is_self_contained_and_carries_the_inputs_and_results(demo, written
 
 
 def test_verdicts_and_common_practice_wording(demo):
-    failing = _text(report.report_content(demo, {}, f_rsi_min=0.99, stamp=HAND_STAMP))
+    failing = _text(report.content.report_content(demo, {}, f_rsi_min=0.99, stamp=HAND_STAMP))
     assert "FAIL against the criterion" in failing and "risk of mould growth" in failing
-    none = _text(report.report_content(demo, {}, f_rsi_min=None, stamp=None))
+    none = _text(report.content.report_content(demo, {}, f_rsi_min=None, stamp=None))
     assert "Common practice, no single source" in none
     assert "0.75" in none and "0.70 in Germany" in none
     assert "were not run for this report" in none
@@ -109,12 +110,12 @@ def test_a_minimum_at_a_cut_off_plane_is_pointed_out(demo, geometries):
     the junction itself, the slab's upper corner."""
     at = demo.surface_temperature_case.theta_si_min_at
     assert at[0] == pytest.approx(0.0) and at[1] == pytest.approx(-1200.0)
-    assert report.minimum_at_cut_off(demo)
-    text = _text(report.report_content(demo, {}, stamp=None))
+    assert report.content.minimum_at_cut_off(demo)
+    text = _text(report.content.report_content(demo, {}, stamp=None))
     assert "the coldest interior point is on a flanking element" in text
     balcony = run(load(geometries / "balcony.py"))
-    assert not report.minimum_at_cut_off(balcony)
-    text = _text(report.report_content(balcony, {}, stamp=None))
+    assert not report.content.minimum_at_cut_off(balcony)
+    text = _text(report.content.report_content(balcony, {}, stamp=None))
     assert "the coldest interior point is on a flanking element" not in text
 
 
@@ -122,22 +123,22 @@ def test_regions_are_listed_as_drawn(demo):
     """The slab edge's four rectangles, in drawing order, with two corners each
     (the defaults of geometries/slab_edge.py: 240 mm masonry, 160 mm EPS, a
     220 mm slab whose edge is insulated with 60 mm mineral wool)."""
-    table = report.regions_table(demo.model)
+    table = report.content.regions_table(demo.model)
     assert [row[1] for row in table.rows] == [r.material for r in demo.model.regions]
     assert table.rows[0][2] == "rectangle (0, −1200) – (240, 1420)"
     assert table.rows[3][2] == "rectangle (180, 0) – (240, 220)"
-    many = report.regions_table(dataclasses.replace(demo.model, regions=[
+    many = report.content.regions_table(dataclasses.replace(demo.model, regions=[
         dataclasses.replace(demo.model.regions[0], shape="polygon",
                             vertices=tuple((float(k), float(k * k % 7)) for k in range(20)))]))  # squares mod 7: 0, 1, 2, 4
     assert many.rows[0][2] == "polygon of 20 corners within (0, 0) – (19, 4)"
 
 
 def test_dimension_system_from_the_name_or_not_stated(demo):
-    system, note = report.stated_dimension_system(demo.model)
+    system, note = report.content.stated_dimension_system(demo.model)
     assert system == "external" and "in its name" in note
     import dataclasses
     unnamed = dataclasses.replace(demo.model, name="a detail")
-    system, note = report.stated_dimension_system(unnamed)
+    system, note = report.content.stated_dimension_system(unnamed)
     assert system is None and note.startswith("not stated")
 
 
@@ -149,15 +150,15 @@ def test_convergence_table_and_plain_words_when_not_converged(demo):
     data["convergence"] = {"levels": levels, "psi_extrapolated": -0.0047,
                            "psi_error_estimate": 0.0002, "iso_doubling_change": 0.021,
                            "criterion_met": False}
-    text = _text(report.report_content(demo, {}, results_dict=data))
+    text = _text(report.content.report_content(demo, {}, results_dict=data))
     assert "did not converge" in text
     assert "2.1 %" in text
-    table = [b for b in report.report_content(demo, {}, results_dict=data).blocks
-             if isinstance(b, report.Table) and "level" in b.header][0]
+    table = [b for b in report.content.report_content(demo, {}, results_dict=data).blocks
+             if isinstance(b, report.blocks.Table) and "level" in b.header][0]
     assert len(table.rows) == 3 and table.rows[2][1] == "4000"
     data["convergence"]["criterion_met"] = True
     data["convergence"]["iso_doubling_change"] = 0.004
-    text = _text(report.report_content(demo, {}, results_dict=data))
+    text = _text(report.content.report_content(demo, {}, results_dict=data))
     assert "did not converge" not in text and "criterion of ISO 10211 is met" in text
 
 
@@ -225,14 +226,13 @@ def test_pdf_pages_render_with_text_and_figures(demo, written, tmp_path):
 
 
 def test_pdf_and_html_are_repeatable(demo, written, tmp_path):
-    from bridgecalc import pdfreport
     figs = {n: written / f"{n}.png" for n in ("materials", "temperature")}
     texts, pdfs = [], []
     for k in range(2):
-        content = report.report_content(demo, figs, 0.75, HAND_STAMP, "external")
-        texts.append(report.render_html(content))
+        content = report.content.report_content(demo, figs, 0.75, HAND_STAMP, "external")
+        texts.append(report.html.render_html(content))
         path = tmp_path / f"r{k}.pdf"
-        pdfreport.write_pdf(content, path)
+        report.pdf.write_pdf(content, path)
         pdfs.append(path.read_bytes())
     assert texts[0] == texts[1]
     assert pdfs[0] == pdfs[1]

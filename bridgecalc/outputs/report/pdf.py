@@ -1,4 +1,4 @@
-"""report.pdf: the blocks of :func:`bridgecalc.report.report_content` laid out with ReportLab.
+"""report.pdf: the report's blocks (:func:`.content.report_content`) laid out with ReportLab.
 
 ReportLab is pure Python from PyPI and renders without a browser or system
 libraries. Text is set in DejaVu Sans, which matplotlib ships (it covers Ψ, θ,
@@ -11,8 +11,10 @@ from __future__ import annotations
 from pathlib import Path
 from xml.sax.saxutils import escape
 
-from . import __version__
-from .report import Figure, Heading, KeyFigures, Para, Report, Table
+from ... import __version__
+from .blocks import Figure, Heading, KeyFigures, Para, Report, Table
+
+REPORT_PDF_FILE = "report.pdf"
 
 FONT = "BridgecalcSans"
 FONT_BOLD = "BridgecalcSans-Bold"
