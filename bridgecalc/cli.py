@@ -137,7 +137,7 @@ def summary(result, out_dir: Path) -> str:
 
 
 def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None,
-                   dimension_system=None) -> Path:
+                   dimension_system=None, stop=None) -> Path:
     import dataclasses
 
     from .convergence import FIRST_MESH
@@ -154,7 +154,7 @@ def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None,
                  tolerance=DEFAULT_TOLERANCE if tolerance is None else tolerance,
                  max_nodes=DEFAULT_MAX_NODES if max_nodes is None else max_nodes)
     write_outputs(result, out_dir, f_rsi_min=f_rsi_min, isotherm_step=isotherm_step,
-                  dimension_system=dimension_system)
+                  dimension_system=dimension_system, stop=stop)
     print(summary(result, out_dir))
     for warning in result.warnings:
         print(f"warning: {warning}", file=sys.stderr)
@@ -172,7 +172,7 @@ def check_out_folder(out_dir: Path) -> None:
             return
 
 
-def command_run(args) -> int:
+def command_run(args, stop=None) -> int:
     from .outputs import fresh_folder
     if not args.refine > 0:
         raise BridgecalcError(f"--refine must be a positive number, got {args.refine:g}")
@@ -185,22 +185,22 @@ def command_run(args) -> int:
     model, dimension_system = _load(args.model, args.assignments)
     out_dir = Path(args.out) if args.out else fresh_folder(Path.cwd() / Path(args.model).stem)
     check_out_folder(out_dir)
-    _run_and_write(model, out_dir, args.element, args.refine, args, dimension_system)
+    _run_and_write(model, out_dir, args.element, args.refine, args, dimension_system, stop)
     return 0
 
 
-def command_demo(args) -> int:
+def command_demo(args, stop=None) -> int:
     from .outputs import REPORT_FILE, fresh_folder
     script = geometries_folder() / DEMO_SCRIPT
     model, dimension_system = _load(str(script), [])
     out_dir = Path(args.out) if args.out else fresh_folder(Path.cwd() / "bridgecalc-demo")
     check_out_folder(out_dir)
-    _run_and_write(model, out_dir, args=args, dimension_system=dimension_system)
+    _run_and_write(model, out_dir, args=args, dimension_system=dimension_system, stop=stop)
     print(f"report: {out_dir / REPORT_FILE}")
     return 0
 
 
-def command_check(args) -> int:
+def command_check(args, stop=None) -> int:
     from .validation import format_table, run_checks
     from .stamp import save, stamp_from_rows
     rows = run_checks()
@@ -209,7 +209,7 @@ def command_check(args) -> int:
     return 0 if all(r.passed for r in rows) else 1
 
 
-def command_sweep(args) -> int:
+def command_sweep(args, stop=None) -> int:
     """Exit 0 if every variant was computed, 1 if some failed."""
     import time
 
@@ -230,29 +230,26 @@ def command_sweep(args) -> int:
     start = time.perf_counter()
     rows = sweeps.sweep(source, vary, workers=args.workers, scheduler=args.scheduler,
                         base_params=fixed, progress=True)
-    sweeps.write_sweep(rows, out_dir, source, vary, fixed)
+    sweeps.write_sweep(rows, out_dir, source, vary, fixed, stop=stop)
     print(sweeps.summary(rows, out_dir, time.perf_counter() - start))
     return 0 if all(r.ok for r in rows) else 1
-
-
-def _terminated(signum, frame):
-    """SIGTERM as SystemExit, so a run being written removes its staging folder."""
-    from .outputs.folder import STOP
-    STOP["status"] = 128 + signum
-    raise SystemExit(128 + signum)
 
 
 def main(argv=None) -> int:
     """Entry point of the ``bridgecalc`` command."""
     import signal
     import threading
+
+    from .outputs import StopRequest
     args = _parser().parse_args(argv)
+    # SIGTERM as SystemExit, so a run being written removes its staging folder
+    stop = StopRequest()
     previous = None
     if threading.current_thread() is threading.main_thread():
-        previous = signal.signal(signal.SIGTERM, _terminated)
+        previous = signal.signal(signal.SIGTERM, stop)
     try:
         return {"run": command_run, "demo": command_demo, "check": command_check,
-                "sweep": command_sweep}[args.command](args)
+                "sweep": command_sweep}[args.command](args, stop)
     except BridgecalcError as exc:
         print(f"error: {exc}", file=sys.stderr)
         return 2
@@ -262,10 +259,7 @@ def main(argv=None) -> int:
     finally:
         if previous is not None:
             signal.signal(signal.SIGTERM, previous)
-        from .outputs.folder import STOP
-        if STOP["status"] is not None:         # the exception was swallowed somewhere
-            status, STOP["status"] = STOP["status"], None
-            raise SystemExit(status)
+        stop.check()                      # the exception was swallowed somewhere
 
 
 if __name__ == "__main__":

@@ -618,7 +618,7 @@ def notes_text(rows: list[VariantResult], vary: dict, script: str,
 
 
 def write_sweep(rows: list[VariantResult], out_dir, script, vary: dict | None = None,
-                base_params: dict | None = None) -> Path:
+                base_params: dict | None = None, stop=None) -> Path:
     """Write sweep.csv, sweep.png and sweep.txt into ``out_dir``, whole or not at all.
 
     Everything is written into a temporary folder beside ``out_dir`` and moved
@@ -636,6 +636,8 @@ def write_sweep(rows: list[VariantResult], out_dir, script, vary: dict | None = 
         take more than one value).
     base_params : dict, optional
         Fixed parameters, noted in sweep.txt.
+    stop : bridgecalc.outputs.StopRequest, optional
+        A stop asked for by a signal: once it is set, nothing is put in place.
 
     Returns
     -------
@@ -648,7 +650,7 @@ def write_sweep(rows: list[VariantResult], out_dir, script, vary: dict | None = 
         vary = {n: list(dict.fromkeys(r.params[n] for r in rows)) for n in names}
         vary = {n: v for n, v in vary.items() if len(v) > 1}
     out_dir = Path(out_dir)
-    with staged_folder(out_dir) as staging:
+    with staged_folder(out_dir, stop) as staging:
         (staging / CSV_FILE).write_text(csv_text(rows), encoding="utf-8")
         fig = sweep_figure(rows, list(vary), f"Parameter sweep: {Path(script).name}")
         try:

@@ -18,16 +18,40 @@ from pathlib import Path
 
 from ..errors import BridgecalcError
 
-#: Exit status asked for by a termination signal (set by the command line's
-#: handler), or None. The handler raises SystemExit at once, but Python ignores
-#: an exception raised inside an at-fork callback, so a signal arriving while a
-#: worker process is forked would be lost; a folder is therefore never put in
-#: place once this is set.
-STOP: dict = {"status": None}
+
+class StopRequest:
+    """A stop asked for by a termination signal, for a run to honour.
+
+    The command line makes one per run, installs it as its SIGTERM handler
+    and passes it down to :func:`staged_folder` (through ``write_outputs``).
+    Called as a handler it records the exit status, 128 + the signal number
+    (the shell's convention), and raises SystemExit at once. Python ignores
+    an exception raised inside an at-fork callback, so a signal arriving
+    while a worker process is forked would be lost: a staged folder is
+    therefore never put in place once a stop is recorded, and the command
+    line exits with the recorded status however the run ended.
+
+    Attributes
+    ----------
+    status : int or None
+        The exit status asked for, or None while no stop was asked for.
+    """
+
+    def __init__(self):
+        self.status: int | None = None
+
+    def __call__(self, signum, frame):
+        self.status = 128 + signum
+        raise SystemExit(self.status)
+
+    def check(self) -> None:
+        """Raise SystemExit with the recorded status, if a stop was asked for."""
+        if self.status is not None:
+            raise SystemExit(self.status)
 
 
 @contextlib.contextmanager
-def staged_folder(out_dir):
+def staged_folder(out_dir, stop: StopRequest | None = None):
     """A staging folder whose files land in ``out_dir`` only if the block succeeds.
 
     The staging folder is made beside ``out_dir`` (same file system, so the
@@ -39,6 +63,8 @@ def staged_folder(out_dir):
     Parameters
     ----------
     out_dir : str or Path
+    stop : StopRequest, optional
+        Once it has recorded a stop, the block counts as failed.
     """
     out_dir = Path(out_dir)
     out_dir.parent.mkdir(parents=True, exist_ok=True)
@@ -47,8 +73,8 @@ def staged_folder(out_dir):
                                     dir=out_dir.parent))
     try:
         yield staging
-        if STOP["status"] is not None:
-            raise SystemExit(STOP["status"])
+        if stop is not None:
+            stop.check()
         umask = os.umask(0)
         os.umask(umask)
         os.chmod(staging, 0o777 & ~umask)

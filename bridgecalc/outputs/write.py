@@ -31,7 +31,7 @@ from .report.content import report_content, stated_dimension_system
 from .report.html import REPORT_FILE, render_html
 from .report.pdf import REPORT_PDF_FILE
 from .results_file import RESULTS_FILE, results_json
-from .workers import Helper, can_fork, default_workers, fork_pool
+from .workers import Worker, can_fork, default_workers, map_forked
 
 
 def check_options(f_rsi_min=None, isotherm_step=None, model=None) -> None:
@@ -75,18 +75,27 @@ def check_options(f_rsi_min=None, isotherm_step=None, model=None) -> None:
 
 # -- figures, possibly in worker processes ------------------------------------------
 
-_JOB = None   # (result, folder, options) inherited by forked workers
+class FigureJob:
+    """Drawing the figures of one result into one folder.
 
+    A worker process gets this job when it is forked and is then asked for
+    one figure (and which of its files) at a time.
+    """
 
-def _draw(name, formats=None):
-    from . import figures
-    result, folder, options = _JOB
-    fig = figures.build_figure(name, result, **options)
-    try:
-        return name, [str(p) for p in figures.save(fig, Path(folder) / name,
-                                                   formats or figures.FORMATS)]
-    finally:
-        figures.plt.close(fig)
+    def __init__(self, result, folder, isotherm_step=None, f_rsi_min=None):
+        self.result = result
+        self.folder = Path(folder)
+        self.options = {"isotherm_step": isotherm_step, "f_rsi_min": f_rsi_min}
+
+    def draw(self, name: str, formats=None) -> tuple[str, list[str]]:
+        """Figure ``name`` written as ``formats`` (default all); returns the name and the files."""
+        from . import figures
+        fig = figures.build_figure(name, self.result, **self.options)
+        try:
+            return name, [str(p) for p in figures.save(fig, self.folder / name,
+                                                       formats or figures.FORMATS)]
+        finally:
+            figures.plt.close(fig)
 
 
 #: Drawing tasks for worker processes, (figure, formats or None for all), from the
@@ -105,7 +114,7 @@ def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=Non
     ----------
     workers : int, optional
         Processes to draw in (:data:`DRAWING_TASKS`); default
-        :func:`default_workers`; 1 draws each figure in this process.
+        :func:`.workers.default_workers`; 1 draws each figure in this process.
 
     Returns
     -------
@@ -113,29 +122,21 @@ def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=Non
         Files per figure name, in :func:`.figures.figure_names` order, each in
         :data:`.figures.FORMATS` order.
     """
-    global _JOB
     from . import figures
-    options = {"isotherm_step": isotherm_step, "f_rsi_min": f_rsi_min}
+    job = FigureJob(result, folder, isotherm_step, f_rsi_min)
     if workers is None:
         workers = default_workers()
-    _JOB = (result, str(folder), options)
     names = figures.figure_names(result)
     written: dict = {n: [] for n in names}
-    try:
-        if workers > 1 and can_fork():
-            tasks = [t for t in DRAWING_TASKS if t[0] in written]
-            tasks += [(n, None) for n in names if n not in {t[0] for t in tasks}]
-            figures.prepare()                 # once here, not once per worker
-            with fork_pool(workers) as pool:
-                futures = [pool.submit(_draw, *task) for task in tasks]
-                for future in futures:
-                    name, paths = future.result()
-                    written[name] += paths
-        else:
-            for name in names:
-                written[name] += _draw(name)[1]
-    finally:
-        _JOB = None
+    if workers > 1 and can_fork():
+        tasks = [t for t in DRAWING_TASKS if t[0] in written]
+        tasks += [(n, None) for n in names if n not in {t[0] for t in tasks}]
+        figures.prepare()                 # once here, not once per worker
+        for name, paths in map_forked(job, "draw", tasks, workers):
+            written[name] += paths
+    else:
+        for name in names:
+            written[name] += job.draw(name)[1]
     rank = {fmt: k for k, fmt in enumerate(figures.FORMATS)}
     return {n: sorted((Path(p) for p in paths), key=lambda p: rank[p.suffix[1:]])
             for n, paths in written.items()}
@@ -143,49 +144,62 @@ def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=Non
 
 # -- the other files, possibly in a helper process ---------------------------------
 
-_REPORT = None    # what the helper needs, inherited when it is forked
-_REPORT_STATE: dict = {}   # the helper's own: the stamp once known
+class OtherFilesJob:
+    """field.vtu, results.csv and report.pdf of one run, in three calls made in order.
 
-
-def _other_files():
-    """field.vtu and results.csv; the stamp; the PDF libraries loaded. Returns the stamp."""
-    from .. import stamp as stamps
-    from . import exports
-    result, staging, options = _REPORT
-    exports.write_vtu(result, staging / exports.VTU_FILE)
-    system, _ = stated_dimension_system(result.model, options["dimension_system"])
-    (staging / exports.CSV_FILE).write_text(
-        exports.csv_text(exports.headline_row(result, options["f_rsi_min"], system,
-                                              __version__)), encoding="utf-8")
-    stamp = options["stamp"]
-    if stamp is None:
-        stamp = stamps.current_stamp()
-    _REPORT_STATE["stamp"] = stamp
-    report_pdf.prepare()
-    return stamp
-
-
-def _report_pdf_pages(figure_pngs, figure_sizes, files):
-    """The report's content, and report.pdf laid out with room for the figures.
-
-    Returns the content and where the figures go (for :func:`_report_pdf_figures`).
+    A helper process gets this job when it is forked, before matplotlib is
+    imported: it writes field.vtu and results.csv and loads the PDF libraries
+    while the parent imports matplotlib (:meth:`write_exports`), lays out
+    report.pdf while the figures are drawn (:meth:`lay_out_report`), and puts
+    the figures' PDF pages in it at the end (:meth:`place_report_figures`).
+    The calls run in order on the same job, so the stamp the first finds is
+    there for the second.
     """
-    result, staging, options = _REPORT
-    content = report_content(
-        result, figure_pngs, options["f_rsi_min"], _REPORT_STATE["stamp"] or None,
-        options["dimension_system"], files, options["data"], figure_sizes)
-    return content, report_pdf.lay_out(content, staging / REPORT_PDF_FILE)
 
+    def __init__(self, result, staging, *, f_rsi_min=None, stamp=None, data=None,
+                 dimension_system=None):
+        self.result = result
+        self.staging = Path(staging)
+        self.f_rsi_min = f_rsi_min
+        self.stamp = stamp
+        self.data = data
+        self.dimension_system = dimension_system
 
-def _report_pdf_figures(placed):
-    _, staging, _ = _REPORT
-    report_pdf.stamp_figures(staging / REPORT_PDF_FILE, placed)
+    def write_exports(self):
+        """field.vtu and results.csv; the stamp; the PDF libraries loaded. Returns the stamp."""
+        from .. import stamp as stamps
+        from . import exports
+        result, staging = self.result, self.staging
+        exports.write_vtu(result, staging / exports.VTU_FILE)
+        system, _ = stated_dimension_system(result.model, self.dimension_system)
+        (staging / exports.CSV_FILE).write_text(
+            exports.csv_text(exports.headline_row(result, self.f_rsi_min, system,
+                                                  __version__)), encoding="utf-8")
+        if self.stamp is None:
+            self.stamp = stamps.current_stamp()
+        report_pdf.prepare()
+        return self.stamp
+
+    def lay_out_report(self, figure_pngs, figure_sizes, files):
+        """The report's content, and report.pdf laid out with room for the figures.
+
+        Returns the content and where the figures go (for
+        :meth:`place_report_figures`).
+        """
+        content = report_content(
+            self.result, figure_pngs, self.f_rsi_min, self.stamp or None,
+            self.dimension_system, files, self.data, figure_sizes)
+        return content, report_pdf.lay_out(content, self.staging / REPORT_PDF_FILE)
+
+    def place_report_figures(self, placed) -> None:
+        """The figures' own PDF pages put into report.pdf where it left room."""
+        report_pdf.stamp_figures(self.staging / REPORT_PDF_FILE, placed)
 
 
 # -- the whole set ------------------------------------------------------------------
 
 def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
-                  dimension_system=None, stamp=None, workers=None) -> Path:
+                  dimension_system=None, stamp=None, workers=None, stop=None) -> Path:
     """Write results, figures, exports and the report, whole or not at all.
 
     Parameters
@@ -206,40 +220,37 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
     workers : int, optional
         Processes for drawing figures (see :func:`draw_figures`); with more
         than one, a further process writes the other files meanwhile.
+    stop : bridgecalc.outputs.folder.StopRequest, optional
+        A stop asked for by a signal: once it is set, nothing is put in place
+        (:func:`.folder.staged_folder`).
 
     Returns
     -------
     Path
         The destination folder.
     """
-    global _REPORT
     check_options(f_rsi_min, isotherm_step)
     out_dir = Path(out_dir)
     if workers is None:
         workers = default_workers()
-    with staged_folder(out_dir) as staging:
+    with staged_folder(out_dir, stop) as staging:
         data = result.to_dict()
         (staging / RESULTS_FILE).write_text(results_json(result, data), encoding="utf-8")
-        _REPORT = (result, staging, {"f_rsi_min": f_rsi_min, "stamp": stamp, "data": data,
-                                     "dimension_system": dimension_system})
-        helper = Helper(forked=workers > 1 and can_fork())
-        try:
-            other = helper.submit(_other_files)
+        job = OtherFilesJob(result, staging, f_rsi_min=f_rsi_min, stamp=stamp, data=data,
+                            dimension_system=dimension_system)
+        with Worker(job, forked=workers > 1 and can_fork()) as helper:
+            exports_written = helper.submit("write_exports")
             from . import exports, figures
             names = list(figures.figure_names(result))
             pngs = {n: staging / f"{n}.png" for n in names}
             sizes = {n: figures.figure_size(n, result) for n in names}
             files = [RESULTS_FILE, exports.CSV_FILE, exports.VTU_FILE, REPORT_FILE,
                      REPORT_PDF_FILE] + [f"{n}.{fmt}" for n in names for fmt in figures.FORMATS]
-            pages = helper.submit(_report_pdf_pages, pngs, sizes, files)
+            pages = helper.submit("lay_out_report", pngs, sizes, files)
             draw_figures(result, staging, isotherm_step, f_rsi_min, workers)
-            other.result()
+            exports_written.result()
             content, placed = pages.result()
-            figures_in = helper.submit(_report_pdf_figures, placed)
+            figures_in = helper.submit("place_report_figures", placed)
             (staging / REPORT_FILE).write_text(render_html(content), encoding="utf-8")
             figures_in.result()
-        finally:
-            helper.close()
-            _REPORT = None
-            _REPORT_STATE.clear()
     return out_dir

@@ -54,3 +54,35 @@ def test_a_terminated_run_leaves_no_staging_folder(geometries, tmp_path):
     proc.send_signal(signal.SIGTERM)
     assert proc.wait(timeout=120) == 128 + signal.SIGTERM
     assert list(tmp_path.iterdir()) == []
+
+
+def test_a_stop_recorded_while_writing_puts_nothing_in_place(tmp_path):
+    """A SIGTERM whose SystemExit was lost (raised inside an at-fork callback,
+    where Python ignores it) is still honoured: the folder is not put in place
+    and the run exits with 128 + 15 (POSIX shells' status for a signal)."""
+    import signal
+    stop = outputs.StopRequest()
+    with pytest.raises(SystemExit) as stopped:
+        with outputs.staged_folder(tmp_path / "out", stop) as staging:
+            (staging / "results.json").write_text("{}")
+            stop.status = 128 + signal.SIGTERM          # what the handler records
+    assert stopped.value.code == 143
+    assert list(tmp_path.iterdir()) == []
+
+
+@pytest.mark.skipif(os.name != "posix", reason="POSIX signals")
+def test_the_stop_request_is_the_sigterm_handler():
+    """Installed as the SIGTERM handler, it records 128 + 15 and raises
+    SystemExit at once (POSIX shells' exit status for a signal)."""
+    import signal
+    stop = outputs.StopRequest()
+    previous = signal.signal(signal.SIGTERM, stop)
+    try:
+        with pytest.raises(SystemExit) as stopped:
+            signal.raise_signal(signal.SIGTERM)
+    finally:
+        signal.signal(signal.SIGTERM, previous)
+    assert stopped.value.code == 143 and stop.status == 143
+    with pytest.raises(SystemExit):
+        stop.check()
+    outputs.StopRequest().check()                   # no stop asked for: nothing raised

@@ -30,6 +30,7 @@ surface profiles). Lengths are in the model's length unit.
 from __future__ import annotations
 
 from pathlib import Path
+from types import MappingProxyType
 
 from .style import HEAT_FLUX_CMAP, PAGE_WIDTH, STYLE, TEMPERATURE_CMAP, material_colours, plt
 from .heat_flux import heat_flux_figure
@@ -76,7 +77,7 @@ def figure_size(name: str, result) -> tuple[float, float]:
     return PAGE_WIDTH, section_layout(_extent(name, result), legend_rows(name, result))[4]
 
 
-BUILDERS = {
+BUILDERS = MappingProxyType({
     "materials": lambda r, o: materials_figure(r),
     "mesh": lambda r, o: mesh_figure(r),
     "temperature": lambda r, o: temperature_figure(r, o.get("isotherm_step")),
@@ -85,7 +86,7 @@ BUILDERS = {
                                                           detail=True),
     "heat_flux": lambda r, o: heat_flux_figure(r),
     "surface_temperature": lambda r, o: surface_temperature_figure(r, o.get("f_rsi_min")),
-}
+})
 
 
 def build_figure(name: str, result, **options):

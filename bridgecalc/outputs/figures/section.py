@@ -11,6 +11,7 @@
 from __future__ import annotations
 
 import math
+from types import MappingProxyType
 
 import matplotlib.colors as mcolors
 import numpy as np
@@ -130,18 +131,18 @@ def _outline_segments(result):
     return {k: seg[kind == k] for k in ("interior", "exterior", "adiabatic")}
 
 
-OUTLINE_STYLE = {
-    "interior": dict(colors=INTERIOR, linewidths=2.2, linestyles="solid"),
-    "exterior": dict(colors=EXTERIOR, linewidths=2.2, linestyles=(0, (4, 2))),
-    "adiabatic": dict(colors=ADIABATIC, linewidths=1.4, linestyles=(0, (1, 1.5))),
-}
+OUTLINE_STYLE = MappingProxyType({
+    "interior": MappingProxyType(dict(colors=INTERIOR, linewidths=2.2, linestyles="solid")),
+    "exterior": MappingProxyType(dict(colors=EXTERIOR, linewidths=2.2, linestyles=(0, (4, 2)))),
+    "adiabatic": MappingProxyType(dict(colors=ADIABATIC, linewidths=1.4, linestyles=(0, (1, 1.5)))),
+})
 
 
-OUTLINE_LABEL = {
+OUTLINE_LABEL = MappingProxyType({
     "interior": "interior surface",
     "exterior": "exterior surface",
     "adiabatic": "adiabatic\n(cut-off or symmetry plane)",
-}
+})
 
 
 def _surface_label_points(result):

@@ -10,6 +10,7 @@ from __future__ import annotations
 import math
 import os
 import tempfile
+from types import MappingProxyType
 
 # matplotlib caches fonts in MPLCONFIGDIR; a read-only home must not stop a run
 if not os.access(os.path.expanduser("~"), os.W_OK) and "MPLCONFIGDIR" not in os.environ:
@@ -34,7 +35,7 @@ EXTERIOR = "#245a7a"     # exterior surfaces (dashed line)
 ADIABATIC = "#7a7a7a"    # cut-off and symmetry planes (dotted line)
 HATCHES = ("", "////", "....", "\\\\\\\\", "xxx", "---", "|||", "ooo", "+++", "**")
 
-STYLE = {
+STYLE = MappingProxyType({
     "font.family": "DejaVu Sans",
     "font.size": 8.0,
     "axes.titlesize": 8.0,
@@ -60,7 +61,7 @@ STYLE = {
     "svg.hashsalt": "bridgecalc",        # stable ids: same input, same SVG
     "svg.fonttype": "none",              # text stays text: searchable, editable
     "pdf.fonttype": 3,
-}
+})
 
 PAGE_WIDTH = 5.6         # figure width [in]: fits the text width of an A4 page
 

@@ -14,13 +14,14 @@ import hashlib
 import math
 import re
 from pathlib import Path
+from types import MappingProxyType
 
 from ... import __version__
 from ...results import CAUTION, f_rsi_verdict, printed_position
 from .blocks import Figure, Heading, KeyFigures, Para, Report, Table
 
 
-FIGURE_CAPTIONS = {
+FIGURE_CAPTIONS = MappingProxyType({
     "materials": "Materials as modelled, regions drawn in file order (a later region "
                  "covers an earlier one). Fill lightness follows λ on a log scale; hatches "
                  "tell materials apart.",
@@ -38,7 +39,7 @@ FIGURE_CAPTIONS = {
     "surface_temperature": "Interior surface temperature along every run of interior "
                            "surface (surface-temperature case), against the distance along "
                            "it; the right axis reads it as a temperature factor.",
-}
+})
 
 
 DIMENSION_NAMES = ("overall internal", "internal", "external")
@@ -175,7 +176,7 @@ COMMON_PRACTICE = ("Common practice, no single source: fRsi ≥ 0.75 is a usual 
                    "where the building stands.")
 
 
-EXTRA_CAUTIONS = [
+EXTRA_CAUTIONS = (
     "A temperature factor that meets a criterion does not by itself rule out mould or "
     "condensation: the criterion assumes design interior temperature and humidity, and "
     "occupancy, ventilation and workmanship may differ. A factor below the criterion marks "
@@ -186,7 +187,7 @@ EXTRA_CAUTIONS = [
     "resistances listed above.",
     "Ψ is only meaningful with the dimension system and flanking U-values it was computed "
     "with; reuse it only with the same ones.",
-]
+)
 
 
 def report_content(result, figures: dict | None = None, f_rsi_min: float | None = None,

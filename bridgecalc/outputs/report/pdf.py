@@ -9,6 +9,7 @@ and random ids, so the same report gives the same bytes.
 from __future__ import annotations
 
 from pathlib import Path
+from types import MappingProxyType
 from xml.sax.saxutils import escape
 
 from ... import __version__
@@ -24,8 +25,8 @@ MUTED = "#5f6b73"
 RULE = "#d9d4c7"
 BAND = "#f4f1ea"
 ACCENT = "#9c3d1f"
-TONES = {"pass": ("#23613a", "#edf5ef"), "fail": ("#9b1c1c", "#fbeeee"),
-         "warn": ("#7a5200", "#fbf4e6"), "caution": (INK, BAND)}
+TONES = MappingProxyType({"pass": ("#23613a", "#edf5ef"), "fail": ("#9b1c1c", "#fbeeee"),
+                          "warn": ("#7a5200", "#fbf4e6"), "caution": (INK, BAND)})
 
 
 def _fonts():
