@@ -13,9 +13,10 @@ All of them are written into a staging folder that is moved into place at
 the end (:func:`bridgecalc.outputs.folder.staged_folder`). Where the platform
 can fork, the fifteen figure files (most of the time of the outputs) are
 drawn in two worker processes, and a helper process writes the other files
-meanwhile: it is forked first, so it writes field.vtu and loads the PDF
-libraries while matplotlib is imported here, then lays out report.pdf while
-the figures are drawn; the figures' own PDF pages go into it at the end.
+meanwhile: it is forked first, so it writes field.vtu, loads the PDF
+libraries and lays out report.pdf (from the figures' sizes, known without
+matplotlib) while matplotlib is imported here; the figures' own PDF pages go
+into it at the end.
 """
 
 from __future__ import annotations
@@ -150,8 +151,8 @@ class OtherFilesJob:
     A helper process gets this job when it is forked, before matplotlib is
     imported: it writes field.vtu and results.csv and loads the PDF libraries
     while the parent imports matplotlib (:meth:`write_exports`), lays out
-    report.pdf while the figures are drawn (:meth:`lay_out_report`), and puts
-    the figures' PDF pages in it at the end (:meth:`place_report_figures`).
+    report.pdf from the figures' sizes (:meth:`lay_out_report`), and puts the
+    figures' PDF pages in it at the end (:meth:`place_report_figures`).
     The calls run in order on the same job, so the stamp the first finds is
     there for the second.
     """
@@ -240,12 +241,15 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
                             dimension_system=dimension_system)
         with Worker(job, forked=workers > 1 and can_fork()) as helper:
             exports_written = helper.submit("write_exports")
-            from . import exports, figures
-            names = list(figures.figure_names(result))
+            # the figures' names and sizes need no matplotlib: the helper lays out
+            # report.pdf while matplotlib loads here for the figures themselves
+            from . import exports
+            from .figures import FORMATS, figure_names, figure_size
+            names = list(figure_names(result))
             pngs = {n: staging / f"{n}.png" for n in names}
-            sizes = {n: figures.figure_size(n, result) for n in names}
+            sizes = {n: figure_size(n, result) for n in names}
             files = [RESULTS_FILE, exports.CSV_FILE, exports.VTU_FILE, REPORT_FILE,
-                     REPORT_PDF_FILE] + [f"{n}.{fmt}" for n in names for fmt in figures.FORMATS]
+                     REPORT_PDF_FILE] + [f"{n}.{fmt}" for n in names for fmt in FORMATS]
             pages = helper.submit("lay_out_report", pngs, sizes, files)
             draw_figures(result, staging, isotherm_step, f_rsi_min, workers)
             exports_written.result()

@@ -17,11 +17,13 @@ and written as PNG (300 dpi), SVG and PDF by :func:`write_figures`:
 
 Where the junction is small in a large section, ``materials_detail`` and
 ``temperature_detail`` show its close view (:func:`.layout.detail_window`).
-The modules: :mod:`.style` (the house style), :mod:`.layout` (views,
-panels, header), :mod:`.edges` and :mod:`.raster` (mesh edges and sampled
-fields as drawn), :mod:`.isotherms`, one module per figure, and
-:mod:`.files` (writing them). This module is the catalogue: which figures a
-run has, their sizes, and building them by name.
+The modules: :mod:`.catalogue` (which figures a run has, what each shows,
+their sizes: known without drawing and without matplotlib), :mod:`.style`
+(the house style), :mod:`.layout` (header, frame, panels), :mod:`.edges`
+and :mod:`.raster` (mesh edges and sampled fields as drawn),
+:mod:`.isotherms`, one module per figure, and :mod:`.files` (writing them).
+This module builds figures by name; it loads matplotlib only when a figure,
+or the house style, is first asked for.
 
 Every quantity plotted comes from :mod:`bridgecalc.results` (fields, q, the
 surface profiles). Lengths are in the model's length unit.
@@ -29,69 +31,54 @@ surface profiles). Lengths are in the model's length unit.
 
 from __future__ import annotations
 
+from importlib import import_module
 from pathlib import Path
 from types import MappingProxyType
 
-from .style import HEAT_FLUX_CMAP, PAGE_WIDTH, STYLE, TEMPERATURE_CMAP, material_colours, plt
-from .heat_flux import heat_flux_figure
-from .isotherms import MAX_ISOTHERMS, default_isotherm_step, isotherm_levels
-from .layout import detail_window, padded_extent, section_layout
-from .profile import PROFILE_HEIGHT, surface_temperature_figure
-from .files import FORMATS, PNG_DPI, prepare, save
-from .section import legend_rows, materials_figure, mesh_figure
-from .temperature import temperature_figure
+from .catalogue import (DETAIL_FIGURES, FIGURES, FORMATS, PAGE_WIDTH, PNG_DPI, detail_window,
+                        figure_names, figure_size)
 
-__all__ = [
-    "FIGURES", "DETAIL_FIGURES", "FORMATS", "PNG_DPI", "MAX_ISOTHERMS", "STYLE", "PAGE_WIDTH",
-    "TEMPERATURE_CMAP", "HEAT_FLUX_CMAP", "plt", "figure_names", "figure_size",
-    "build_figure", "write_figures", "save", "prepare", "detail_window", "material_colours",
-    "default_isotherm_step", "isotherm_levels", "materials_figure", "mesh_figure",
-    "temperature_figure", "heat_flux_figure", "surface_temperature_figure",
-]
-
-FIGURES = ("materials", "mesh", "temperature", "heat_flux", "surface_temperature")
-#: Figures of the junction's detail window, when there is one; each follows
-#: its view of the whole section.
-DETAIL_FIGURES = ("materials_detail", "temperature_detail")
-
-
-def figure_names(result) -> tuple[str, ...]:
-    """The figures of a run: :data:`FIGURES`, and the detail views when the
-    section has a :func:`detail_window`."""
-    if detail_window(result) is None:
-        return FIGURES
-    names = []
-    for name in FIGURES:
-        names += [name] + [d for d in DETAIL_FIGURES if d == f"{name}_detail"]
-    return tuple(names)
-
-
-def _extent(name: str, result):
-    return detail_window(result) if name in DETAIL_FIGURES else padded_extent(result)
-
-
-def figure_size(name: str, result) -> tuple[float, float]:
-    """Width and height [in] that figure ``name`` will have, without drawing it."""
-    if name == "surface_temperature":
-        return PAGE_WIDTH, PROFILE_HEIGHT
-    return PAGE_WIDTH, section_layout(_extent(name, result), legend_rows(name, result))[4]
-
-
-BUILDERS = MappingProxyType({
-    "materials": lambda r, o: materials_figure(r),
-    "mesh": lambda r, o: mesh_figure(r),
-    "temperature": lambda r, o: temperature_figure(r, o.get("isotherm_step")),
-    "materials_detail": lambda r, o: materials_figure(r, detail=True),
-    "temperature_detail": lambda r, o: temperature_figure(r, o.get("isotherm_step"),
-                                                          detail=True),
-    "heat_flux": lambda r, o: heat_flux_figure(r),
-    "surface_temperature": lambda r, o: surface_temperature_figure(r, o.get("f_rsi_min")),
+#: The module of each name that needs matplotlib, loaded when the name is
+#: first used (PEP 562 module ``__getattr__``).
+_DRAWING = MappingProxyType({
+    "plt": "style", "STYLE": "style", "TEMPERATURE_CMAP": "style", "HEAT_FLUX_CMAP": "style",
+    "material_colours": "style",
+    "materials_figure": "section", "mesh_figure": "section",
+    "temperature_figure": "temperature", "heat_flux_figure": "heat_flux",
+    "surface_temperature_figure": "profile",
+    "MAX_ISOTHERMS": "isotherms", "default_isotherm_step": "isotherms",
+    "isotherm_levels": "isotherms",
+    "save": "files", "prepare": "files",
 })
+
+__all__ = ["FIGURES", "DETAIL_FIGURES", "FORMATS", "PNG_DPI", "PAGE_WIDTH", "figure_names",
+           "figure_size", "detail_window", "build_figure", "write_figures", *_DRAWING]
+
+
+def __getattr__(name: str):
+    """The figure builders, the house style and the file writer, with matplotlib."""
+    if name in _DRAWING:
+        return getattr(import_module(f".{_DRAWING[name]}", __name__), name)
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 
 def build_figure(name: str, result, **options):
     """One of :func:`figure_names` as a Figure (``isotherm_step``, ``f_rsi_min`` apply)."""
-    return BUILDERS[name](result, options)
+    from .heat_flux import heat_flux_figure
+    from .profile import surface_temperature_figure
+    from .section import materials_figure, mesh_figure
+    from .temperature import temperature_figure
+    step, f_rsi_min = options.get("isotherm_step"), options.get("f_rsi_min")
+    builders = {
+        "materials": lambda: materials_figure(result),
+        "mesh": lambda: mesh_figure(result),
+        "temperature": lambda: temperature_figure(result, step),
+        "materials_detail": lambda: materials_figure(result, detail=True),
+        "temperature_detail": lambda: temperature_figure(result, step, detail=True),
+        "heat_flux": lambda: heat_flux_figure(result),
+        "surface_temperature": lambda: surface_temperature_figure(result, f_rsi_min),
+    }
+    return builders[name]()
 
 
 def write_figures(result, folder, isotherm_step=None, f_rsi_min=None,
@@ -112,6 +99,8 @@ def write_figures(result, folder, isotherm_step=None, f_rsi_min=None,
     dict of str to list of Path
         Files written per figure name.
     """
+    from .files import save
+    from .style import plt
     folder = Path(folder)
     out = {}
     for name in figure_names(result):

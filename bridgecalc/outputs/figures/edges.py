@@ -8,13 +8,6 @@ from matplotlib.patches import PathPatch
 from matplotlib.path import Path as PlotPath
 
 
-def material_codes(result):
-    """Material names in first-use order, and each triangle's index into them."""
-    names = list(dict.fromkeys(r.material for r in result.model.regions))
-    code_of_region = np.array([names.index(r.material) for r in result.model.regions])
-    return names, code_of_region[result.mesh.region]
-
-
 def material_edges(mesh, label) -> np.ndarray:
     """Mesh edges between triangles of different labels, and the outline.
 

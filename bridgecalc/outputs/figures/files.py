@@ -9,10 +9,9 @@ from pathlib import Path
 
 import numpy as np
 
+from .catalogue import FORMATS, PNG_DPI
 from .style import STYLE, plt
 
-FORMATS = ("png", "svg", "pdf")
-PNG_DPI = 300
 #: Resolution of the shaded fields inside SVG and PDF figures; lines and text
 #: there stay vector.
 VECTOR_RASTER_DPI = 150

@@ -9,8 +9,9 @@ import numpy as np
 from matplotlib.ticker import LogFormatter
 
 from ...results import heat_flux_density
-from .edges import material_codes, material_edges, segments_path
-from .layout import colour_bar, frame, new_figure, padded_extent, side_or_below
+from .catalogue import material_codes, padded_extent, side_or_below
+from .edges import material_edges, segments_path
+from .layout import colour_bar, frame, new_figure
 from .raster import cells_on_grid, field_image, pixel_grid
 from .style import HEAT_FLUX_CMAP, INK, STYLE, plt
 

@@ -1,11 +1,6 @@
-"""Where things go on a figure of the section: views, panels, header, frame.
-
-A figure of the section is a plot of one view (the whole section, or the
-junction's detail window) at equal scale, a header above it and a panel for
-its legend or colour bar: right of a tall section, below a wide one. Sizes
-are fixed in inches from the view's aspect, so a figure's size is known
-before it is drawn (:func:`section_layout`).
-"""
+"""The house layout of a figure of the section: header, plot frame, scale bar,
+and the legend or colour bar in the panel that :mod:`.catalogue` sized
+(right of a tall section, below a wide one)."""
 
 from __future__ import annotations
 
@@ -17,81 +12,9 @@ from matplotlib.lines import Line2D
 from matplotlib.patches import Polygon
 from mpl_toolkits.axes_grid1.anchored_artists import AnchoredSizeBar
 
-from .style import INK, INTERIOR, MUTED, PAGE_WIDTH, plt
-
-#: Layout [in]: margins around the plot, the side panel of tall sections and the
-#: panel below wide ones. Fixed positions instead of a layout engine: cheaper
-#: and the same every run.
-MARGIN_LEFT, MARGIN_RIGHT, MARGIN_TOP, MARGIN_BOTTOM = 0.8, 0.15, 0.62, 0.5
-SIDE_PANEL, BELOW_PANEL = 1.75, 1.05
-MAX_PLOT_HEIGHT = 5.6
-
-
-def padded_extent(result):
-    """Plot limits [length_unit]: the section's bounding box and a 3 % margin."""
-    xy = result.mesh.nodes / result.model.metres_per_unit
-    lo, hi = xy.min(axis=0), xy.max(axis=0)
-    pad = 0.03 * float((hi - lo).max())
-    return lo - pad, hi + pad
-
-
-#: A detail view is drawn when the junction's box covers less than this share
-#: of the whole section's box (a ground-floor model's ground block, say).
-DETAIL_AREA_SHARE = 0.25
-
-
-def detail_window(result):
-    """Plot limits [length_unit] of a close view of the junction, or None.
-
-    Some sections are much larger than the construction they hold: ISO 10211
-    asks for a ground block of several metres around a ground-floor edge. A
-    view of the whole shows the junction as a few pixels. The construction
-    is where the regions' corners crowd: a corner counts when another corner
-    lies within a tenth of the section's size; the window is the box of those
-    corners with a margin, drawn only when it covers less than
-    :data:`DETAIL_AREA_SHARE` of the whole section's box and holds less than
-    that share of its solid (the tool's own rule: a sloping roof leaves its
-    box mostly empty, yet a close view of its wall would show no more).
-    """
-    model = result.model
-    corners = np.unique(np.concatenate([np.asarray(r.vertices, float)
-                                        for r in model.regions]), axis=0)
-    lo, hi = padded_extent(result)
-    size = float((hi - lo).max())
-    if len(corners) < 3 or size <= 0:
-        return None
-    from scipy.spatial import cKDTree
-    gap = cKDTree(corners).query(corners, k=2)[0][:, 1]      # to the nearest other corner
-    crowded = corners[gap < 0.1 * size]
-    if len(crowded) < 3:
-        return None
-    a, b = crowded.min(axis=0), crowded.max(axis=0)
-    pad = max(0.15 * float((b - a).max()), 0.03 * size)
-    # no further than the solid, then the same 3 % margin as a whole view
-    xy = result.mesh.nodes / model.metres_per_unit
-    a, b = np.maximum(a - pad, xy.min(axis=0)), np.minimum(b + pad, xy.max(axis=0))
-    margin = 0.03 * float((b - a).max())
-    a, b = a - margin, b + margin
-    if np.prod(b - a) >= DETAIL_AREA_SHARE * np.prod(hi - lo):
-        return None
-    corners = xy[result.mesh.triangles]                        # (T, 3, 2)
-    e1, e2 = corners[:, 1] - corners[:, 0], corners[:, 2] - corners[:, 0]
-    area = 0.5 * np.abs(e1[:, 0] * e2[:, 1] - e1[:, 1] * e2[:, 0])
-    centre = corners.mean(axis=1)
-    within = np.all((centre >= a) & (centre <= b), axis=1)
-    if area[within].sum() >= DETAIL_AREA_SHARE * area.sum():
-        return None
-    return a, b
-
-
-def view(result, detail: bool):
-    """Plot limits [length_unit]: the detail window, or the whole section."""
-    if not detail:
-        return padded_extent(result)
-    window = detail_window(result)
-    if window is None:
-        raise ValueError("this section has no detail window (figures.layout.detail_window)")
-    return window
+from .catalogue import (MARGIN_BOTTOM, MARGIN_LEFT, MARGIN_RIGHT, PAGE_WIDTH, SIDE_PANEL,
+                        below_panel, detail_window, section_layout, side_or_below)
+from .style import INK, INTERIOR, MUTED, plt
 
 
 def outline_detail(ax, result):
@@ -107,45 +30,6 @@ def outline_detail(ax, result):
                 ha="left", va="bottom", fontsize=6.5, color=INK, zorder=6,
                 annotation_clip=False,
                 bbox=dict(boxstyle="square,pad=0.15", fc="white", ec="none", alpha=0.85))
-
-
-def section_layout(extent, legend_rows=0):
-    """Aspect (height/width) of a view, whether panels go beside it, and the
-    plot width, plot height and figure height [in] of a figure of it.
-
-    Parameters
-    ----------
-    extent : (ndarray, ndarray)
-        Lower-left and upper-right plot limits [length_unit].
-    legend_rows : int
-        Rows of two-line legend entries the panel below a wide view must hold.
-    """
-    lo, hi = extent
-    span = hi - lo
-    aspect = float(span[1] / max(span[0], 1e-12))
-    side = side_or_below(aspect)
-    if side:
-        plot_w = PAGE_WIDTH - MARGIN_LEFT - SIDE_PANEL - MARGIN_RIGHT
-        plot_h = plot_w * aspect
-        if plot_h > MAX_PLOT_HEIGHT:
-            plot_h = MAX_PLOT_HEIGHT
-            plot_w = plot_h / aspect
-        fig_h = MARGIN_TOP + plot_h + MARGIN_BOTTOM
-    else:
-        plot_w = PAGE_WIDTH - MARGIN_LEFT - MARGIN_RIGHT - 0.1
-        plot_h = max(plot_w * aspect, 0.25)
-        fig_h = MARGIN_TOP + plot_h + MARGIN_BOTTOM + below_panel(legend_rows)
-    return aspect, side, plot_w, plot_h, fig_h
-
-
-def below_panel(legend_rows: int) -> float:
-    """Height [in] of the panel under a wide view: a colour bar, or a legend
-    (title, then rows of two-line entries)."""
-    return max(BELOW_PANEL, 0.45 + LEGEND_ROW * legend_rows)
-
-
-#: Height of a row of two-line legend entries [in].
-LEGEND_ROW = 0.3
 
 
 #: Header [in from the top]: the top of the title line, of the subtitle line, and
@@ -292,11 +176,6 @@ def _scale_bar(ax, result, extent):
     bar.patch.set(facecolor="white", alpha=0.85, edgecolor="none")
     bar.set_gid("scale-bar")
     ax.add_artist(bar)
-
-
-def side_or_below(aspect: float) -> bool:
-    """True when legends and colour bars go to the right of a tall section."""
-    return aspect >= 0.8
 
 
 def legend(fig, ax, handles, aspect, title=None):

@@ -6,13 +6,9 @@ from __future__ import annotations
 import numpy as np
 
 from ...results import design_temperatures, interior_surface_profiles
-from .layout import MARGIN_LEFT, MARGIN_TOP, header
-from .style import ADIABATIC, INK, INTERIOR, MUTED, PAGE_WIDTH, PAPER, STYLE, VOID, plt
-
-
-#: Height of the surface-temperature figure, and of the room under its plot
-#: for the axis and the legend [in].
-PROFILE_HEIGHT, PROFILE_BOTTOM = 3.6, 1.2
+from .catalogue import MARGIN_LEFT, MARGIN_TOP, PAGE_WIDTH, PROFILE_BOTTOM, PROFILE_HEIGHT
+from .layout import header
+from .style import ADIABATIC, INK, INTERIOR, MUTED, PAPER, STYLE, VOID, plt
 
 
 def surface_temperature_figure(result, f_rsi_min=None):

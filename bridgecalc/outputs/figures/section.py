@@ -10,7 +10,6 @@
 
 from __future__ import annotations
 
-import math
 from types import MappingProxyType
 
 import matplotlib.colors as mcolors
@@ -18,18 +17,10 @@ import numpy as np
 from matplotlib.lines import Line2D
 from matplotlib.patches import Patch, Polygon
 
-from .edges import chained_path, material_codes, material_edges, segments_path
-from .layout import frame, legend, new_figure, outline_detail, padded_extent, view
+from .catalogue import legend_rows, material_codes, padded_extent, view
+from .edges import chained_path, material_edges, segments_path
+from .layout import frame, legend, new_figure, outline_detail
 from .style import ADIABATIC, EXTERIOR, INK, INTERIOR, MUTED, STYLE, material_colours, plt
-
-
-def legend_rows(name: str, result) -> int:
-    """Rows of the legend of figure ``name`` when it sits in two columns below the view."""
-    if name in ("materials", "materials_detail"):
-        return math.ceil(len(material_codes(result)[0]) / 2)
-    if name == "mesh":
-        return 2
-    return 0
 
 
 def materials_figure(result, detail=False):

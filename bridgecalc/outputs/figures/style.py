@@ -63,8 +63,6 @@ STYLE = MappingProxyType({
     "pdf.fonttype": 3,
 })
 
-PAGE_WIDTH = 5.6         # figure width [in]: fits the text width of an A4 page
-
 
 def material_colours(model) -> dict:
     """Fill colour and hatch per material: lightness by log λ, hatch by order.

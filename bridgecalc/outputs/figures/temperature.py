@@ -9,10 +9,11 @@ import numpy as np
 from matplotlib.text import Text
 
 from ...results import design_temperatures, printed_position
-from .edges import material_codes, material_edges, segments_path
+from .catalogue import material_codes, view
+from .edges import material_edges, segments_path
 from .isotherms import (MAX_ISOTHERMS, bar_ticks, default_isotherm_step, isotherm_levels,
                         label_isotherms)
-from .layout import colour_bar, frame, new_figure, outline_detail, view
+from .layout import colour_bar, frame, new_figure, outline_detail
 from .raster import field_image, linear_in_cells, pixel_grid
 from .style import INK, STYLE, TEMPERATURE_CMAP, plt
 
