@@ -14,6 +14,7 @@ this process, so callers have one way to write the work either way.
 
 from __future__ import annotations
 
+import gc
 import multiprocessing
 import os
 import sys
@@ -128,7 +129,15 @@ class Worker:
             self.connection, child = context.Pipe()
             self.process = context.Process(target=_serve, args=(job, child, os.getpid()),
                                            daemon=True)
-            self.process.start()
+            # Python's advice for fork without exec: objects of this process set
+            # aside (gc.freeze) are left alone by the child's garbage collector,
+            # which then neither walks them nor copies their memory pages on
+            # write. Here they come back at once; only the child keeps them aside.
+            gc.freeze()
+            try:
+                self.process.start()
+            finally:
+                gc.unfreeze()
             child.close()
 
     def submit(self, method: str, *args) -> Reply:
