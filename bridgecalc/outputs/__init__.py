@@ -29,6 +29,6 @@ from .results_file import RESULTS_FILE, results_json
 from .workers import end_with_parent
 from .write import check_options, write_outputs
 
-__all__ = ["RESULTS_FILE", "REPORT_FILE", "REPORT_PDF_FILE", "StopRequest", "check_options",
+__all__ = ("RESULTS_FILE", "REPORT_FILE", "REPORT_PDF_FILE", "StopRequest", "check_options",
            "end_with_parent", "fresh_folder", "results_json", "staged_folder",
-           "write_outputs"]
+           "write_outputs")

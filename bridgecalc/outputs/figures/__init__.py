@@ -51,8 +51,8 @@ _DRAWING = MappingProxyType({
     "save": "files", "prepare": "files",
 })
 
-__all__ = ["FIGURES", "DETAIL_FIGURES", "FORMATS", "PNG_DPI", "PAGE_WIDTH", "figure_names",
-           "figure_size", "detail_window", "build_figure", "write_figures", *_DRAWING]
+__all__ = ("FIGURES", "DETAIL_FIGURES", "FORMATS", "PNG_DPI", "PAGE_WIDTH", "figure_names",
+           "figure_size", "detail_window", "build_figure", "write_figures", *_DRAWING)
 
 
 def __getattr__(name: str):

@@ -10,4 +10,4 @@ from .content import report_content
 from .html import REPORT_FILE, render_html
 from .pdf import REPORT_PDF_FILE, write_pdf
 
-__all__ = ["REPORT_FILE", "REPORT_PDF_FILE", "render_html", "report_content", "write_pdf"]
+__all__ = ("REPORT_FILE", "REPORT_PDF_FILE", "render_html", "report_content", "write_pdf")
