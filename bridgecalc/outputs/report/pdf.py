@@ -29,14 +29,32 @@ TONES = MappingProxyType({"pass": ("#23613a", "#edf5ef"), "fail": ("#9b1c1c", "#
                           "warn": ("#7a5200", "#fbf4e6"), "caution": (INK, BAND)})
 
 
+def _font_folder() -> Path:
+    """matplotlib's folder of TrueType fonts, found without importing matplotlib.
+
+    matplotlib keeps its data in ``mpl-data`` beside its ``__init__.py``
+    (what ``matplotlib.get_data_path`` returns); the helper process that lays
+    out the report has not imported matplotlib, and importing it only for
+    this path would cost it some 60 ms. Where the folder is not there, ask
+    matplotlib.
+    """
+    import importlib.util
+    spec = importlib.util.find_spec("matplotlib")
+    if spec is not None and spec.origin:
+        folder = Path(spec.origin).with_name("mpl-data") / "fonts" / "ttf"
+        if (folder / "DejaVuSans.ttf").is_file():
+            return folder
+    import matplotlib
+    return Path(matplotlib.get_data_path()) / "fonts" / "ttf"
+
+
 def _fonts():
     """Register DejaVu Sans (from matplotlib's data folder) once."""
     from reportlab.pdfbase import pdfmetrics
     from reportlab.pdfbase.ttfonts import TTFont
     if FONT in pdfmetrics.getRegisteredFontNames():
         return
-    import matplotlib
-    folder = Path(matplotlib.get_data_path()) / "fonts" / "ttf"
+    folder = _font_folder()
     pdfmetrics.registerFont(TTFont(FONT, str(folder / "DejaVuSans.ttf")))
     pdfmetrics.registerFont(TTFont(FONT_BOLD, str(folder / "DejaVuSans-Bold.ttf")))
     from reportlab.lib.fonts import addMapping
