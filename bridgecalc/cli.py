@@ -121,7 +121,7 @@ def summary(result, out_dir: Path) -> str:
     return "\n".join(lines)
 
 
-def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None) -> Path:
+def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None, stop=None) -> Path:
     import dataclasses
 
     from . import api
@@ -137,7 +137,7 @@ def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None) ->
                      tolerance=DEFAULT_TOLERANCE if tolerance is None else tolerance,
                      max_nodes=DEFAULT_MAX_NODES if max_nodes is None else max_nodes)
     write_outputs(result, out_dir, f_rsi_min=f_rsi_min, isotherm_step=isotherm_step,
-                  dimension_system=model.dimension_system)
+                  dimension_system=model.dimension_system, stop=stop)
     print(summary(result, out_dir))
     for warning in result.warnings:
         print(f"warning: {warning}", file=sys.stderr)
@@ -155,7 +155,7 @@ def check_out_folder(out_dir: Path) -> None:
             return
 
 
-def command_run(args) -> int:
+def command_run(args, stop=None) -> int:
     from .outputs import fresh_folder
     if not args.refine > 0:
         raise BridgecalcError(f"--refine must be a positive number, got {args.refine:g}")
@@ -172,22 +172,22 @@ def command_run(args) -> int:
     model = api.load(source, args.assignments)
     out_dir = Path(args.out) if args.out else fresh_folder(Path.cwd() / source.stem)
     check_out_folder(out_dir)
-    _run_and_write(model, out_dir, args.element, args.refine, args)
+    _run_and_write(model, out_dir, args.element, args.refine, args, stop)
     return 0
 
 
-def command_demo(args) -> int:
+def command_demo(args, stop=None) -> int:
     from .outputs import REPORT_FILE, fresh_folder
     from . import api
     model = api.demo_model()
     out_dir = Path(args.out) if args.out else fresh_folder(Path.cwd() / "bridgecalc-demo")
     check_out_folder(out_dir)
-    _run_and_write(model, out_dir, args=args)
+    _run_and_write(model, out_dir, args=args, stop=stop)
     print(f"report: {out_dir / REPORT_FILE}")
     return 0
 
 
-def command_check(args) -> int:
+def command_check(args, stop=None) -> int:
     from . import api
     from .validation import format_table
     rows = api.check()
@@ -195,7 +195,7 @@ def command_check(args) -> int:
     return 0 if all(r.passed for r in rows) else 1
 
 
-def command_sweep(args) -> int:
+def command_sweep(args, stop=None) -> int:
     """Exit 0 if every variant was computed, 1 if some failed."""
     import time
 
@@ -216,29 +216,26 @@ def command_sweep(args) -> int:
     start = time.perf_counter()
     rows = sweeps.sweep(source, vary, workers=args.workers, scheduler=args.scheduler,
                         base_params=fixed, progress=True)
-    sweeps.write_sweep(rows, out_dir, source, vary, fixed)
+    sweeps.write_sweep(rows, out_dir, source, vary, fixed, stop=stop)
     print(sweeps.summary(rows, out_dir, time.perf_counter() - start))
     return 0 if all(r.ok for r in rows) else 1
-
-
-def _terminated(signum, frame):
-    """SIGTERM as SystemExit, so a run being written removes its staging folder."""
-    from .outputs import STOP
-    STOP["status"] = 128 + signum
-    raise SystemExit(128 + signum)
 
 
 def main(argv=None) -> int:
     """Entry point of the ``bridgecalc`` command."""
     import signal
     import threading
+
+    from .outputs import StopRequest
     args = _parser().parse_args(argv)
+    # SIGTERM as SystemExit, so a run being written removes its staging folder
+    stop = StopRequest()
     previous = None
     if threading.current_thread() is threading.main_thread():
-        previous = signal.signal(signal.SIGTERM, _terminated)
+        previous = signal.signal(signal.SIGTERM, stop)
     try:
         return {"run": command_run, "demo": command_demo, "check": command_check,
-                "sweep": command_sweep}[args.command](args)
+                "sweep": command_sweep}[args.command](args, stop)
     except BridgecalcError as exc:
         print(f"error: {exc}", file=sys.stderr)
         return 2
@@ -248,10 +245,7 @@ def main(argv=None) -> int:
     finally:
         if previous is not None:
             signal.signal(signal.SIGTERM, previous)
-        from .outputs import STOP
-        if STOP["status"] is not None:         # the exception was swallowed somewhere
-            status, STOP["status"] = STOP["status"], None
-            raise SystemExit(status)
+        stop.check()                      # the exception was swallowed somewhere
 
 
 if __name__ == "__main__":

@@ -67,7 +67,7 @@ def sweep_figure(rows: list[VariantResult], varied: list[str], title: str = ""):
     combination of the other varied parameters is one line. Without flanking
     elements L2D is plotted instead of Ψ. Failed variants leave gaps.
     """
-    from .. import figures                   # the house style; Agg backend
+    from ..outputs import figures           # the house style; Agg backend
     plt = figures.plt
     ok = [r for r in rows if r.ok]
     use_psi = any(r.psi is not None for r in ok)
@@ -147,7 +147,7 @@ def notes_text(rows: list[VariantResult], vary: dict, script: str,
 
 
 def write_sweep(rows: list[VariantResult], out_dir, script, vary: dict | None = None,
-                base_params: dict | None = None) -> Path:
+                base_params: dict | None = None, stop=None) -> Path:
     """Write sweep.csv, sweep.png and sweep.txt into ``out_dir``, whole or not at all.
 
     Everything is written into a temporary folder beside ``out_dir`` and moved
@@ -165,19 +165,21 @@ def write_sweep(rows: list[VariantResult], out_dir, script, vary: dict | None = 
         take more than one value).
     base_params : dict, optional
         Fixed parameters, noted in sweep.txt.
+    stop : bridgecalc.outputs.StopRequest, optional
+        A stop asked for by a signal: once it is set, nothing is put in place.
 
     Returns
     -------
     Path
     """
-    from .. import figures
+    from ..outputs import figures
     module = scripts.load_module(script)
     if vary is None:
         names = list(rows[0].params) if rows else []
         vary = {n: list(dict.fromkeys(r.params[n] for r in rows)) for n in names}
         vary = {n: v for n, v in vary.items() if len(v) > 1}
     out_dir = Path(out_dir)
-    with staged_folder(out_dir) as staging:
+    with staged_folder(out_dir, stop) as staging:
         (staging / CSV_FILE).write_text(csv_text(rows), encoding="utf-8")
         fig = sweep_figure(rows, list(vary), f"Parameter sweep: {Path(script).name}")
         try:

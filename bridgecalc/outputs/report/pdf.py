@@ -1,4 +1,4 @@
-"""report.pdf: the blocks of :func:`bridgecalc.report.report_content` laid out with ReportLab.
+"""report.pdf: the report's blocks (:func:`.content.report_content`) laid out with ReportLab.
 
 ReportLab is pure Python from PyPI and renders without a browser or system
 libraries. Text is set in DejaVu Sans, which matplotlib ships (it covers Ψ, θ,
@@ -9,10 +9,13 @@ and random ids, so the same report gives the same bytes.
 from __future__ import annotations
 
 from pathlib import Path
+from types import MappingProxyType
 from xml.sax.saxutils import escape
 
-from . import __version__
-from .report import Figure, Heading, KeyFigures, Para, Report, Table
+from ... import __version__
+from .blocks import Figure, Heading, KeyFigures, Para, Report, Table
+
+REPORT_PDF_FILE = "report.pdf"
 
 FONT = "BridgecalcSans"
 FONT_BOLD = "BridgecalcSans-Bold"
@@ -22,8 +25,27 @@ MUTED = "#5f6b73"
 RULE = "#d9d4c7"
 BAND = "#f4f1ea"
 ACCENT = "#9c3d1f"
-TONES = {"pass": ("#23613a", "#edf5ef"), "fail": ("#9b1c1c", "#fbeeee"),
-         "warn": ("#7a5200", "#fbf4e6"), "caution": (INK, BAND)}
+TONES = MappingProxyType({"pass": ("#23613a", "#edf5ef"), "fail": ("#9b1c1c", "#fbeeee"),
+                          "warn": ("#7a5200", "#fbf4e6"), "caution": (INK, BAND)})
+
+
+def _font_folder() -> Path:
+    """matplotlib's folder of TrueType fonts, found without importing matplotlib.
+
+    matplotlib keeps its data in ``mpl-data`` beside its ``__init__.py``
+    (what ``matplotlib.get_data_path`` returns); the helper process that lays
+    out the report has not imported matplotlib, and importing it only for
+    this path would cost it some 60 ms. Where the folder is not there, ask
+    matplotlib.
+    """
+    import importlib.util
+    spec = importlib.util.find_spec("matplotlib")
+    if spec is not None and spec.origin:
+        folder = Path(spec.origin).with_name("mpl-data") / "fonts" / "ttf"
+        if (folder / "DejaVuSans.ttf").is_file():
+            return folder
+    import matplotlib
+    return Path(matplotlib.get_data_path()) / "fonts" / "ttf"
 
 
 def _fonts():
@@ -32,8 +54,7 @@ def _fonts():
     from reportlab.pdfbase.ttfonts import TTFont
     if FONT in pdfmetrics.getRegisteredFontNames():
         return
-    import matplotlib
-    folder = Path(matplotlib.get_data_path()) / "fonts" / "ttf"
+    folder = _font_folder()
     pdfmetrics.registerFont(TTFont(FONT, str(folder / "DejaVuSans.ttf")))
     pdfmetrics.registerFont(TTFont(FONT_BOLD, str(folder / "DejaVuSans-Bold.ttf")))
     from reportlab.lib.fonts import addMapping

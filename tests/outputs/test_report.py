@@ -11,17 +11,15 @@ import os
 import re
 import shutil
 import subprocess
-import sys
 from pathlib import Path
 
 import numpy as np
 import pytest
 from PIL import Image
 
-from bridgecalc import outputs, report
+from bridgecalc import outputs
 from bridgecalc.validation import stamp as stamps
-from bridgecalc.cli import main
-from bridgecalc.errors import BridgecalcError
+from bridgecalc.outputs import report
 from bridgecalc.api import load, run
 
 CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")
@@ -49,24 +47,15 @@ def written(demo, tmp_path_factory):
 def _text(content):
     parts = []
     for b in content.blocks:
-        if isinstance(b, report.Table):
+        if isinstance(b, report.blocks.Table):
             parts += b.header + [c for row in b.rows for c in row] + [b.caption]
-        elif isinstance(b, report.KeyFigures):
+        elif isinstance(b, report.blocks.KeyFigures):
             parts += [" ".join(item) for item in b.items]
         elif hasattr(b, "text"):
             parts.append(b.text)
-        elif isinstance(b, report.Figure):
+        elif isinstance(b, report.blocks.Figure):
             parts.append(b.caption)
     return "\n".join(parts)
-
-
-def test_every_output_file_is_written(written):
-    names = {p.name for p in written.iterdir()}
-    expected = {"results.json", "results.csv", "field.vtu", "report.html", "report.pdf"}
-    expected |= {f"{n}.{ext}" for n in ("materials", "mesh", "temperature", "heat_flux",
-                                         "surface_temperature") for ext in ("png", "svg", "pdf")}
-    assert names == expected
-    assert not [p for p in written.parent.iterdir() if p.name.startswith(".")]
 
 
 def test_a_ground_floor_report_carries_the_detail_views(geometries, tmp_path):
@@ -108,9 +97,9 @@ def test_html_is_self_contained_and_carries_the_inputs_and_results(demo, written
 
 
 def test_verdicts_and_common_practice_wording(demo):
-    failing = _text(report.report_content(demo, {}, f_rsi_min=0.99, stamp=HAND_STAMP))
+    failing = _text(report.content.report_content(demo, {}, f_rsi_min=0.99, stamp=HAND_STAMP))
     assert "FAIL against the criterion" in failing and "risk of mould growth" in failing
-    none = _text(report.report_content(demo, {}, f_rsi_min=None, stamp=None))
+    none = _text(report.content.report_content(demo, {}, f_rsi_min=None, stamp=None))
     assert "Common practice, no single source" in none
     assert "0.75" in none and "0.70 in Germany" in none
     assert "were not run for this report" in none
@@ -122,12 +111,12 @@ def test_a_minimum_at_a_cut_off_plane_is_pointed_out(demo, geometries):
     the junction itself, the slab's upper corner."""
     at = demo.surface_temperature_case.theta_si_min_at
     assert at[0] == pytest.approx(0.0) and at[1] == pytest.approx(-1200.0)
-    assert report.minimum_at_cut_off(demo)
-    text = _text(report.report_content(demo, {}, stamp=None))
+    assert report.content.minimum_at_cut_off(demo)
+    text = _text(report.content.report_content(demo, {}, stamp=None))
     assert "the coldest interior point is on a flanking element" in text
     balcony = run(load(geometries / "balcony.py"))
-    assert not report.minimum_at_cut_off(balcony)
-    text = _text(report.report_content(balcony, {}, stamp=None))
+    assert not report.content.minimum_at_cut_off(balcony)
+    text = _text(report.content.report_content(balcony, {}, stamp=None))
     assert "the coldest interior point is on a flanking element" not in text
 
 
@@ -135,22 +124,22 @@ def test_regions_are_listed_as_drawn(demo):
     """The slab edge's four rectangles, in drawing order, with two corners each
     (the defaults of geometries/slab_edge.py: 240 mm masonry, 160 mm EPS, a
     220 mm slab whose edge is insulated with 60 mm mineral wool)."""
-    table = report.regions_table(demo.model)
+    table = report.content.regions_table(demo.model)
     assert [row[1] for row in table.rows] == [r.material for r in demo.model.regions]
     assert table.rows[0][2] == "rectangle (0, −1200) – (240, 1420)"
     assert table.rows[3][2] == "rectangle (180, 0) – (240, 220)"
-    many = report.regions_table(dataclasses.replace(demo.model, regions=[
+    many = report.content.regions_table(dataclasses.replace(demo.model, regions=[
         dataclasses.replace(demo.model.regions[0], shape="polygon",
                             vertices=tuple((float(k), float(k * k % 7)) for k in range(20)))]))  # squares mod 7: 0, 1, 2, 4
     assert many.rows[0][2] == "polygon of 20 corners within (0, 0) – (19, 4)"
 
 
 def test_dimension_system_from_the_name_or_not_stated(demo):
-    system, note = report.stated_dimension_system(demo.model)
+    system, note = report.content.stated_dimension_system(demo.model)
     assert system == "external" and "in its name" in note
     import dataclasses
     unnamed = dataclasses.replace(demo.model, name="a detail")
-    system, note = report.stated_dimension_system(unnamed)
+    system, note = report.content.stated_dimension_system(unnamed)
     assert system is None and note.startswith("not stated")
 
 
@@ -162,15 +151,15 @@ def test_convergence_table_and_plain_words_when_not_converged(demo):
     data["convergence"] = {"levels": levels, "psi_extrapolated": -0.0047,
                            "psi_error_estimate": 0.0002, "iso_doubling_change": 0.021,
                            "criterion_met": False}
-    text = _text(report.report_content(demo, {}, results_dict=data))
+    text = _text(report.content.report_content(demo, {}, results_dict=data))
     assert "did not converge" in text
     assert "2.1 %" in text
-    table = [b for b in report.report_content(demo, {}, results_dict=data).blocks
-             if isinstance(b, report.Table) and "level" in b.header][0]
+    table = [b for b in report.content.report_content(demo, {}, results_dict=data).blocks
+             if isinstance(b, report.blocks.Table) and "level" in b.header][0]
     assert len(table.rows) == 3 and table.rows[2][1] == "4000"
     data["convergence"]["criterion_met"] = True
     data["convergence"]["iso_doubling_change"] = 0.004
-    text = _text(report.report_content(demo, {}, results_dict=data))
+    text = _text(report.content.report_content(demo, {}, results_dict=data))
     assert "did not converge" not in text and "criterion of ISO 10211 is met" in text
 
 
@@ -238,66 +227,16 @@ def test_pdf_pages_render_with_text_and_figures(demo, written, tmp_path):
 
 
 def test_pdf_and_html_are_repeatable(demo, written, tmp_path):
-    from bridgecalc import pdfreport
     figs = {n: written / f"{n}.png" for n in ("materials", "temperature")}
     texts, pdfs = [], []
     for k in range(2):
-        content = report.report_content(demo, figs, 0.75, HAND_STAMP, "external")
-        texts.append(report.render_html(content))
+        content = report.content.report_content(demo, figs, 0.75, HAND_STAMP, "external")
+        texts.append(report.html.render_html(content))
         path = tmp_path / f"r{k}.pdf"
-        pdfreport.write_pdf(content, path)
+        report.pdf.write_pdf(content, path)
         pdfs.append(path.read_bytes())
     assert texts[0] == texts[1]
     assert pdfs[0] == pdfs[1]
-
-
-def test_bad_options_write_nothing(demo, tmp_path):
-    with pytest.raises(BridgecalcError, match="--f-rsi-min"):
-        outputs.write_outputs(demo, tmp_path / "x", f_rsi_min=1.5, stamp=HAND_STAMP)
-    with pytest.raises(BridgecalcError, match="--isotherm-step"):
-        outputs.write_outputs(demo, tmp_path / "x", isotherm_step=0, stamp=HAND_STAMP)
-    assert not any(tmp_path.iterdir())
-
-
-def test_cli_rejects_a_bad_criterion_with_exit_2(geometries, tmp_path, capsys):
-    out = tmp_path / "out"
-    code = main(["run", str(geometries / "slab_edge.py"), "--out", str(out),
-                 "--f-rsi-min", "75"])
-    assert code == 2
-    assert "--f-rsi-min" in capsys.readouterr().err
-    assert not out.exists()
-
-
-def test_an_isotherm_step_too_fine_is_refused_before_solving(geometries, tmp_path, capsys,
-                                                              monkeypatch):
-    # 1e-9 K over θi − θe = 20 K asked for 2e10 isotherms (a 140 GiB array)
-    import bridgecalc.api
-    monkeypatch.setattr(bridgecalc.api, "_run", lambda *a: pytest.fail("solved"))
-    out = tmp_path / "out"
-    assert main(["run", str(geometries / "slab_edge.py"), "--out", str(out),
-                 "--isotherm-step", "1e-9"]) == 2
-    err = capsys.readouterr().err
-    assert "--isotherm-step" in err and "at least 0.1 K" in err
-    assert not out.exists()
-
-
-def test_the_temperature_figure_coarsens_a_step_finer_than_its_line_limit():
-    from bridgecalc import figures
-    levels, step = figures.isotherm_levels(0.0, 3e28, 2.0)     # a 1e30 W/m³ heat source
-    assert step == pytest.approx(2e26) and len(levels) <= figures.MAX_ISOTHERMS
-    levels, step = figures.isotherm_levels(0.3, 19.6, 2.0)
-    assert step == 2.0 and list(levels) == pytest.approx([2, 4, 6, 8, 10, 12, 14, 16, 18])
-
-
-def test_an_out_folder_holding_a_folder_of_an_output_name_gets_nothing(demo, tmp_path):
-    out = tmp_path / "out"
-    (out / "results.json").mkdir(parents=True)
-    (out / "notes.txt").write_text("mine", encoding="utf-8")
-    with pytest.raises(BridgecalcError, match="results.json is a folder"):
-        outputs.write_outputs(demo, out, stamp=HAND_STAMP, workers=1)
-    assert sorted(p.name for p in out.iterdir()) == ["notes.txt", "results.json"]
-    assert not any((out / "results.json").iterdir())
-    assert sorted(p.name for p in tmp_path.iterdir()) == ["out"]
 
 
 def test_very_long_names_still_give_a_pdf(geometries, tmp_path):
@@ -314,105 +253,6 @@ def test_very_long_names_still_give_a_pdf(geometries, tmp_path):
     page = (out / "report.html").read_text(encoding="utf-8")
     assert long_name not in page and long_name in page.replace("<wbr>", "")
     assert "<wbr>" not in page.replace("w<wbr>w", "")       # only inside the long run
-
-
-@pytest.mark.skipif(os.name != "posix", reason="POSIX signals")
-def test_a_terminated_run_leaves_no_staging_folder(geometries, tmp_path):
-    """SIGTERM while the outputs are written: the staging folder goes (gmsh had
-    replaced Python's SIGTERM handler, so the process died leaving it)."""
-    import signal
-    import sys
-    import time
-    proc = subprocess.Popen([sys.executable, "-m", "bridgecalc", "run",
-                             str(geometries / "ground_floor.py"), "--out",
-                             str(tmp_path / "out")],
-                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
-    deadline = time.monotonic() + 120
-    while not list(tmp_path.glob(".out.*")) and proc.poll() is None:
-        assert time.monotonic() < deadline
-        time.sleep(0.02)
-    assert proc.poll() is None, "finished before its outputs could be interrupted"
-    proc.send_signal(signal.SIGTERM)
-    assert proc.wait(timeout=120) == 128 + signal.SIGTERM
-    assert list(tmp_path.iterdir()) == []
-
-
-@pytest.mark.skipif(not sys.platform.startswith("linux"), reason="prctl is Linux's")
-def test_workers_end_when_their_parent_is_killed(tmp_path):
-    """A pool's workers wait on the parent's queue for ever once the parent is
-    killed outright (SIGKILL cannot be caught); with outputs.end_with_parent as
-    initializer the kernel ends them with it. Both start methods the package
-    uses (fork for figures, spawn for sweeps)."""
-    import signal
-    import time
-    parent_code = """
-import multiprocessing, os, sys, time
-from concurrent.futures import ProcessPoolExecutor
-from bridgecalc.outputs import end_with_parent
-if __name__ == "__main__":
-    context = multiprocessing.get_context(sys.argv[1])
-    pool = ProcessPoolExecutor(1, mp_context=context, initializer=end_with_parent,
-                               initargs=(os.getpid(),))
-    print(pool.submit(os.getpid).result(), flush=True)
-    time.sleep(120)
-"""
-    script = tmp_path / "parent.py"
-    script.write_text(parent_code)
-    for method in ("fork", "spawn"):
-        proc = subprocess.Popen([sys.executable, str(script), method], stdout=subprocess.PIPE,
-                                stderr=subprocess.DEVNULL, text=True)
-        worker = int(proc.stdout.readline())
-        os.kill(worker, 0)                        # alive while its parent is
-        proc.send_signal(signal.SIGKILL)
-        proc.wait(timeout=30)
-        deadline = time.monotonic() + 30
-        while time.monotonic() < deadline:
-            try:
-                os.kill(worker, 0)
-            except ProcessLookupError:
-                break
-            # a zombie until init reaps it counts as ended
-            status = Path(f"/proc/{worker}/status")
-            if status.exists() and "zombie" in status.read_text():
-                break
-            time.sleep(0.05)
-        else:
-            os.kill(worker, signal.SIGKILL)
-            pytest.fail(f"{method} worker {worker} outlived its killed parent")
-
-
-def test_staging_folders_of_killed_runs_are_removed(tmp_path):
-    """A run killed outright leaves its staging folder; the next run to the
-    same --out removes it, when it was made on this machine by a process
-    that no longer exists, and keeps those of live processes and of other
-    machines (a shared file system)."""
-    done = subprocess.run([sys.executable, "-c", "import os; print(os.getpid())"],
-                          capture_output=True, text=True, check=True)
-    dead = int(done.stdout)                        # exited: no such process now
-    out = tmp_path / "out"
-    prefix = outputs._staging_prefix(out)
-    abandoned = tmp_path / f"{prefix}{dead}.abc123"
-    live = tmp_path / f"{prefix}{os.getpid()}.def456"
-    elsewhere = tmp_path / f".out.other-machine.{dead}.ghi789"
-    for folder in (abandoned, live, elsewhere):
-        folder.mkdir()
-        (folder / "results.json").write_text("{}")
-    with outputs.staged_folder(out) as staging:
-        assert staging.name.startswith(f"{prefix}{os.getpid()}.")
-        (staging / "results.csv").write_text("a\n")
-    assert not abandoned.exists()
-    assert live.exists() and elsewhere.exists()
-    assert (out / "results.csv").read_text() == "a\n"
-
-
-def test_a_failure_while_writing_leaves_nothing(demo, tmp_path, monkeypatch):
-    def broken(*_, **__):
-        raise RuntimeError("disk full")
-    # results.json is already in the staging folder when drawing fails
-    monkeypatch.setattr(outputs, "draw_figures", broken)
-    with pytest.raises(RuntimeError):
-        outputs.write_outputs(demo, tmp_path / "out", stamp=HAND_STAMP, workers=1)
-    assert list(tmp_path.iterdir()) == []
 
 
 def test_stamp_is_cached_per_build(tmp_path, monkeypatch):
@@ -432,20 +272,3 @@ def test_stamp_is_cached_per_build(tmp_path, monkeypatch):
     assert (second.passed, second.failed) == (1, 1)
     assert re.fullmatch(r"\d{4}-\d\d-\d\dT\d\d:\d\d:\d\dZ", first.checked_at)
     assert os.listdir(tmp_path)
-
-
-def test_a_figure_failing_in_a_worker_process_leaves_nothing(demo, tmp_path, monkeypatch):
-    from bridgecalc import figures
-    if not outputs._can_fork():
-        pytest.skip("figure workers need fork")
-    real = figures.build_figure
-
-    def broken(name, *args, **kwargs):
-        if name == "mesh":
-            raise RuntimeError("mesh figure broke")
-        return real(name, *args, **kwargs)
-    # forked workers inherit the patched module; the helper process is running too
-    monkeypatch.setattr(figures, "build_figure", broken)
-    with pytest.raises(RuntimeError, match="mesh figure broke"):
-        outputs.write_outputs(demo, tmp_path / "out", stamp=HAND_STAMP, workers=2)
-    assert list(tmp_path.iterdir()) == []

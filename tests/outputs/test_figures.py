@@ -9,7 +9,8 @@ import numpy as np
 import pytest
 from PIL import Image
 
-from bridgecalc import figures
+from bridgecalc.outputs import figures
+from bridgecalc.outputs.figures import files, raster
 from bridgecalc.api import load, run
 
 
@@ -139,6 +140,58 @@ def test_files_are_300_dpi_non_blank_and_repeatable(demo, tmp_path):
     assert first[2].read_bytes().startswith(b"%PDF")
 
 
+def _png_chunks(data: bytes):
+    """(type, payload) of each chunk, checking the signature and every CRC
+    (PNG specification, ISO/IEC 15948: 5.2 signature, 5.3 chunk layout, CRC-32
+    over type and data; zlib.crc32 is the same CRC)."""
+    import struct
+    import zlib
+    assert data[:8] == b"\x89PNG\r\n\x1a\n"
+    chunks, at = [], 8
+    while at < len(data):
+        length, kind = struct.unpack(">I4s", data[at:at + 8])
+        payload = data[at + 8:at + 8 + length]
+        (crc,) = struct.unpack(">I", data[at + 8 + length:at + 12 + length])
+        assert crc == zlib.crc32(kind + payload) & 0xFFFFFFFF, kind
+        chunks.append((kind.decode("ascii"), payload))
+        at += 12 + length
+    return chunks
+
+
+def _png_pixels(chunks, rows, columns, channels):
+    """The image data unfiltered as the PNG specification defines it (ISO/IEC
+    15948, 9.2: filter types None, Sub, Up, Average, Paeth), independent of
+    Pillow; 8-bit samples, no interlacing."""
+    import zlib
+    raw = zlib.decompress(b"".join(p for kind, p in chunks if kind == "IDAT"))
+    stride = columns * channels
+    rows_in = np.frombuffer(raw, dtype=np.uint8).reshape(rows, stride + 1).astype(int)
+    out = np.zeros((rows, stride), dtype=int)
+    previous = np.zeros(stride, dtype=int)
+    for r in range(rows):
+        kind, line = rows_in[r, 0], rows_in[r, 1:]
+        current = np.zeros(stride, dtype=int)
+        for i in range(stride):
+            a = current[i - channels] if i >= channels else 0
+            b = previous[i]
+            c = previous[i - channels] if i >= channels else 0
+            if kind == 0:
+                predictor = 0
+            elif kind == 1:
+                predictor = a
+            elif kind == 2:
+                predictor = b
+            elif kind == 3:
+                predictor = (a + b) // 2
+            else:
+                p = a + b - c
+                pa, pb, pc = abs(p - a), abs(p - b), abs(p - c)
+                predictor = a if pa <= pb and pa <= pc else (b if pb <= pc else c)
+            current[i] = (line[i] + predictor) % 256
+        out[r], previous = current, current
+    return out.reshape(rows, columns, channels).astype(np.uint8)
+
+
 @pytest.mark.parametrize("channels", [3, 4])
 def test_png_writer_round_trips_through_an_independent_decoder(tmp_path, channels):
     # reference: Pillow's own PNG decoder reads back every pixel and the pHYs density
@@ -146,11 +199,28 @@ def test_png_writer_round_trips_through_an_independent_decoder(tmp_path, channel
     pixels = rng.integers(0, 256, size=(37, 53, channels), dtype=np.uint8)
     pixels[10:20, 5:40] = 200                       # a flat patch, as figures have
     path = tmp_path / "x.png"
-    path.write_bytes(figures.png_bytes(pixels, 300))
+    path.write_bytes(files.png_bytes(pixels, 300))
     with Image.open(path) as im:
         assert im.mode == ("RGB" if channels == 3 else "RGBA")
         assert im.info["dpi"][0] == pytest.approx(300, abs=0.5)
         assert np.array_equal(np.asarray(im), pixels)
+    # Pillow writes the file, so it is read back a second time by the PNG
+    # specification itself (ISO/IEC 15948): chunk order and CRCs, IHDR (11.2.2:
+    # 8-bit, colour type 2 for RGB, 6 for RGBA), pHYs (11.3.5.3: pixels per
+    # metre, unit 1 = metre; 300 / 0.0254 = 11811), no text or time chunks
+    # (11.3.4, 11.3.6.1) so that the same pixels give the same bytes, and the
+    # pixels unfiltered from the zlib stream (section numbers from memory)
+    import struct
+    chunks = _png_chunks(path.read_bytes())
+    kinds = [kind for kind, _ in chunks]
+    assert kinds[0] == "IHDR" and kinds[-1] == "IEND" and "IDAT" in kinds
+    assert not {"tEXt", "zTXt", "iTXt", "tIME"} & set(kinds)
+    width, height, depth, colour, _, _, interlace = struct.unpack(">IIBBBBB", chunks[0][1])
+    assert (width, height, depth, interlace) == (53, 37, 8, 0)
+    assert colour == (2 if channels == 3 else 6)
+    assert struct.unpack(">IIB", dict(chunks)["pHYs"]) == (11811, 11811, 1)
+    assert np.array_equal(_png_pixels(chunks, 37, 53, channels), pixels)
+    assert files.png_bytes(pixels, 300) == path.read_bytes()
 
 
 def test_field_sampling_reproduces_a_linear_field_exactly(demo):
@@ -160,19 +230,19 @@ def test_field_sampling_reproduces_a_linear_field_exactly(demo):
     lo, hi = xy.min(axis=0), xy.max(axis=0)
     gx = np.linspace(lo[0] - 50, hi[0] + 50, 97)
     gy = np.linspace(lo[1] - 50, hi[1] + 50, 131)
-    cells = figures.cells_on_grid(xy, demo.mesh.triangles, gx, gy)
+    cells = raster.cells_on_grid(xy, demo.mesh.triangles, gx, gy)
     px, py = np.meshgrid(gx, gy)
     inside = cells >= 0
     assert 0.2 < inside.mean() < 0.9
     # points beyond the bounding box of the section lie in no triangle
     outside_box = (px < lo[0]) | (px > hi[0]) | (py < lo[1]) | (py > hi[1])
     assert not inside[outside_box].any()
-    values = figures._linear_in_cells(xy, demo.mesh.triangles, nodal, cells[inside],
-                                      px[inside], py[inside])
+    values = raster.linear_in_cells(xy, demo.mesh.triangles, nodal, cells[inside],
+                                    px[inside], py[inside])
     exact = 0.03 * px[inside] - 0.02 * py[inside] + 5.0
     assert np.max(np.abs(values - exact)) < 1e-9
     # each found triangle really contains its point (barycentric coordinates in [0, 1])
-    maps = figures.barycentric_maps(xy, demo.mesh.triangles)[cells[inside]]
+    maps = raster.barycentric_maps(xy, demo.mesh.triangles)[cells[inside]]
     lam1 = maps[:, 0, 0] * px[inside] + maps[:, 0, 1] * py[inside] + maps[:, 0, 2]
     lam2 = maps[:, 1, 0] * px[inside] + maps[:, 1, 1] * py[inside] + maps[:, 1, 2]
     assert lam1.min() > -1e-8 and lam2.min() > -1e-8 and (lam1 + lam2).max() < 1 + 1e-8
@@ -216,6 +286,13 @@ def test_isotherm_labels_sit_on_their_own_isotherm_and_apart(demo):
                 assert not a.overlaps(b), (a, b)
     finally:
         figures.plt.close(fig)
+
+
+def test_the_temperature_figure_coarsens_a_step_finer_than_its_line_limit():
+    levels, step = figures.isotherm_levels(0.0, 3e28, 2.0)     # a 1e30 W/m³ heat source
+    assert step == pytest.approx(2e26) and len(levels) <= figures.MAX_ISOTHERMS
+    levels, step = figures.isotherm_levels(0.3, 19.6, 2.0)
+    assert step == 2.0 and list(levels) == pytest.approx([2, 4, 6, 8, 10, 12, 14, 16, 18])
 
 
 def test_long_titles_are_fitted_to_the_figure(demo):

@@ -13,7 +13,7 @@ import meshio
 import numpy as np
 import pytest
 
-from bridgecalc import exports
+from bridgecalc.outputs import exports
 from bridgecalc.api import load, run
 from bridgecalc.results import heat_flux_density, interior_surface_profiles
 

@@ -1,11 +1,8 @@
-"""The review report: one content, two renderings (report.html, report.pdf).
+"""What the review report says, built once from a result.
 
 :func:`report_content` turns a result (and what the run knows besides: the
 fRsi criterion, the dimension system, the validation stamp, the figures) into
-a list of blocks: headings, paragraphs, tables, figures. :func:`render_html`
-writes those blocks as one self-contained HTML file (figures embedded, no
-external resources); :mod:`bridgecalc.pdfreport` lays the same blocks out as
-a PDF. So both carry the same content by construction.
+a :class:`.blocks.Report`: headings, paragraphs, tables, figures.
 
 Everything shown is read from the result and the model; nothing here
 recomputes physics.
@@ -13,71 +10,18 @@ recomputes physics.
 
 from __future__ import annotations
 
-import base64
 import hashlib
-import html
 import math
 import re
-from dataclasses import dataclass, field
 from pathlib import Path
+from types import MappingProxyType
 
-from . import __version__
-from .results import CAUTION, f_rsi_verdict, printed_position
-
-# -- blocks ---------------------------------------------------------------------
-
-
-@dataclass
-class Heading:
-    level: int
-    text: str
-    anchor: str = ""
+from ... import __version__
+from ...results import CAUTION, f_rsi_verdict, printed_position
+from .blocks import Figure, Heading, KeyFigures, Para, Report, Table
 
 
-@dataclass
-class Para:
-    """A paragraph. ``tone``: normal, note, pass, fail, warn, caution."""
-
-    text: str
-    tone: str = "normal"
-
-
-@dataclass
-class Table:
-    header: list[str]
-    rows: list[list[str]]
-    caption: str = ""
-    numeric: tuple[int, ...] = ()       # right-aligned columns
-    widths: tuple[float, ...] = ()      # relative column widths (PDF)
-
-
-@dataclass
-class Figure:
-    """A figure: its PNG file and, when known before it is drawn, its size [in]."""
-
-    name: str
-    png: Path
-    caption: str
-    size: tuple[float, float] | None = None
-
-
-@dataclass
-class KeyFigures:
-    """The headline numbers: (label, value, unit, note)."""
-
-    items: list[tuple[str, str, str, str]] = field(default_factory=list)
-
-
-@dataclass
-class Report:
-    title: str
-    subtitle: str
-    blocks: list
-
-
-# -- content ----------------------------------------------------------------------
-
-FIGURE_CAPTIONS = {
+FIGURE_CAPTIONS = MappingProxyType({
     "materials": "Materials as modelled, regions drawn in file order (a later region "
                  "covers an earlier one). Fill lightness follows λ on a log scale; hatches "
                  "tell materials apart.",
@@ -95,7 +39,8 @@ FIGURE_CAPTIONS = {
     "surface_temperature": "Interior surface temperature along every run of interior "
                            "surface (surface-temperature case), against the distance along "
                            "it; the right axis reads it as a temperature factor.",
-}
+})
+
 
 DIMENSION_NAMES = ("overall internal", "internal", "external")
 
@@ -144,7 +89,7 @@ def _point(p) -> str:
 
 def model_fingerprint(model) -> str:
     """SHA-256 of the model written as a format-1 file: the same inputs, the same digits."""
-    from .readers.modelfile import dumps
+    from ...readers.modelfile import dumps
     try:
         text = dumps(model)
     except Exception:           # a model that cannot be written still gets a report
@@ -230,7 +175,8 @@ COMMON_PRACTICE = ("Common practice, no single source: fRsi ≥ 0.75 is a usual 
                    "and uses differ. The criterion that applies is set by the codes in force "
                    "where the building stands.")
 
-EXTRA_CAUTIONS = [
+
+EXTRA_CAUTIONS = (
     "A temperature factor that meets a criterion does not by itself rule out mould or "
     "condensation: the criterion assumes design interior temperature and humidity, and "
     "occupancy, ventilation and workmanship may differ. A factor below the criterion marks "
@@ -241,7 +187,7 @@ EXTRA_CAUTIONS = [
     "resistances listed above.",
     "Ψ is only meaningful with the dimension system and flanking U-values it was computed "
     "with; reuse it only with the same ones.",
-]
+)
 
 
 def report_content(result, figures: dict | None = None, f_rsi_min: float | None = None,
@@ -254,7 +200,7 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
     ----------
     result : bridgecalc.results.Result
     figures : dict of str to Path, optional
-        PNG file per figure name (:func:`bridgecalc.figures.figure_names`).
+        PNG file per figure name (:func:`bridgecalc.outputs.figures.figure_names`).
     f_rsi_min : float, optional
         The user's fRsi criterion [-].
     stamp : bridgecalc.validation.stamp.Stamp, optional
@@ -517,110 +463,3 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
         blocks.append(Heading(2, "Files of this run", "files"))
         blocks.append(Para(", ".join(files) + ".", "normal"))
     return Report(title, subtitle, blocks)
-
-
-# -- HTML -------------------------------------------------------------------------
-
-CSS = """
-:root { --ink:#1d2731; --muted:#5f6b73; --rule:#d9d4c7; --paper:#ffffff; --band:#f4f1ea;
-        --accent:#9c3d1f; --pass:#23613a; --fail:#9b1c1c; --warn:#7a5200; }
-* { box-sizing: border-box; }
-body { margin: 0; background: var(--band); color: var(--ink);
-       font: 15px/1.45 "DejaVu Sans", "Segoe UI", Helvetica, Arial, sans-serif; }
-main { max-width: 62rem; margin: 0 auto; background: var(--paper); padding: 1.6rem 2.2rem 3rem; }
-header { border-bottom: 2px solid var(--accent); padding-bottom: .6rem; margin-bottom: 1rem; }
-h1 { font-size: 1.45rem; margin: 0 0 .25rem; }
-.sub { color: var(--muted); font-size: .85rem; margin: 0; }
-h2 { font-size: 1.1rem; margin: 2rem 0 .6rem; padding-bottom: .2rem;
-     border-bottom: 1px solid var(--rule); }
-.keys { display: grid; grid-template-columns: repeat(auto-fit, minmax(11rem, 1fr));
-        gap: .6rem; margin: .6rem 0 1rem; }
-.key { border: 1px solid var(--rule); border-top: 3px solid var(--ink); padding: .5rem .7rem; }
-.key .label { font-size: .8rem; color: var(--muted); }
-.key .value { font-size: 1.5rem; font-weight: bold; font-variant-numeric: tabular-nums; }
-.key .unit { font-size: .85rem; margin-left: .25rem; }
-.key .note { font-size: .78rem; color: var(--muted); }
-p { margin: .5rem 0; }
-p.note { color: var(--muted); }
-p.pass, p.fail, p.warn, p.caution { padding: .5rem .8rem; border-left: 5px solid; }
-p.pass { border-color: var(--pass); background: #edf5ef; }
-p.fail { border-color: var(--fail); background: #fbeeee; font-weight: bold; }
-p.warn { border-color: var(--warn); background: #fbf4e6; }
-p.caution { border-color: var(--ink); background: var(--band); }
-table { border-collapse: collapse; width: 100%; margin: .4rem 0 1rem; font-size: .85rem; }
-caption { caption-side: bottom; text-align: left; color: var(--muted); font-size: .8rem;
-          padding-top: .3rem; }
-th, td { padding: .3rem .5rem; border-bottom: 1px solid var(--rule); text-align: left;
-         vertical-align: top; }
-thead th { border-bottom: 2px solid var(--ink); font-weight: bold; }
-td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
-figure { margin: 1rem 0 1.6rem; page-break-inside: avoid; }
-figure img { width: 100%; height: auto; border: 1px solid var(--rule); }
-figcaption { color: var(--muted); font-size: .82rem; margin-top: .3rem; }
-nav { font-size: .85rem; margin: .3rem 0 0; }
-nav a { color: var(--ink); margin-right: .9rem; }
-@media print { body { background: none; } main { padding: 0; max-width: none; } }
-"""
-
-
-#: Runs of this many characters without a space get break opportunities in HTML.
-UNBROKEN_RUN = 30
-
-
-def _breakable(text: str) -> str:
-    """``text`` escaped for HTML, with ``<wbr>`` every :data:`UNBROKEN_RUN`
-    characters inside longer runs without spaces (a 5000-character name must
-    not widen the page); ordinary words are left whole."""
-    out = []
-    for k, part in enumerate(re.split(rf"(\S{{{UNBROKEN_RUN},}})", text)):
-        if k % 2:
-            out.append("<wbr>".join(html.escape(part[i:i + UNBROKEN_RUN])
-                                    for i in range(0, len(part), UNBROKEN_RUN)))
-        else:
-            out.append(html.escape(part))
-    return "".join(out)
-
-
-def _html_block(block) -> str:
-    e = _breakable
-    if isinstance(block, Heading):
-        anchor = f' id="{html.escape(block.anchor)}"' if block.anchor else ""
-        return f"<h{block.level}{anchor}>{e(block.text)}</h{block.level}>"
-    if isinstance(block, Para):
-        cls = f' class="{block.tone}"' if block.tone != "normal" else ""
-        return f"<p{cls}>{e(block.text)}</p>"
-    if isinstance(block, KeyFigures):
-        cards = "".join(
-            f'<div class="key"><div class="label">{e(label)}</div>'
-            f'<div class="value">{e(value)}<span class="unit">{e(unit)}</span></div>'
-            f'<div class="note">{e(note)}</div></div>' for label, value, unit, note in block.items)
-        return f'<div class="keys">{cards}</div>'
-    if isinstance(block, Table):
-        head = "".join(f"<th>{e(h)}</th>" for h in block.header)
-        body = "".join(
-            "<tr>" + "".join(f'<td class="num">{e(c)}</td>' if i in block.numeric
-                             else f"<td>{e(c)}</td>" for i, c in enumerate(row)) + "</tr>"
-            for row in block.rows)
-        caption = f"<caption>{e(block.caption)}</caption>" if block.caption else ""
-        return f"<table>{caption}<thead><tr>{head}</tr></thead><tbody>{body}</tbody></table>"
-    if isinstance(block, Figure):
-        encoded = base64.b64encode(block.png.read_bytes()).decode("ascii")
-        name = html.escape(block.name)
-        return (f'<figure id="figure-{name}"><img alt="{name} figure" '
-                f'src="data:image/png;base64,{encoded}">'
-                f"<figcaption>{e(block.caption)}</figcaption></figure>")
-    raise TypeError(f"unknown report block {block!r}")
-
-
-def render_html(report: Report) -> str:
-    """The report as one self-contained HTML page (no external resources)."""
-    e = html.escape
-    nav = "".join(f'<a href="#{e(b.anchor)}">{e(b.text)}</a>' for b in report.blocks
-                  if isinstance(b, Heading) and b.anchor)
-    body = "\n".join(_html_block(b) for b in report.blocks)
-    return (f'<!DOCTYPE html>\n<html lang="en"><head><meta charset="utf-8">'
-            f'<meta name="viewport" content="width=device-width, initial-scale=1">'
-            f"<title>{e(report.title)}</title><style>{CSS}</style></head><body><main>"
-            f"<header><h1>{_breakable(report.title)}</h1>"
-            f"<p class=\"sub\">{_breakable(report.subtitle)}</p>"
-            f"<nav>{nav}</nav></header>\n{body}\n</main></body></html>\n")

@@ -20,7 +20,7 @@ import io
 
 import numpy as np
 
-from .results import f_rsi_verdict, heat_flux_density
+from ..results import f_rsi_verdict, heat_flux_density
 
 VTU_FILE = "field.vtu"
 CSV_FILE = "results.csv"

@@ -1,0 +1,112 @@
+"""Figures for envelope submissions; they plot results and never recompute physics.
+
+Five figures, each a :class:`matplotlib.figure.Figure` built by one function
+and written as PNG (300 dpi), SVG and PDF by :func:`write_figures`:
+
+``materials``, ``mesh``
+    the section as drawn (:mod:`.section`).
+``temperature``
+    the surface-temperature case's field with isotherms at a chosen step and
+    the θsi,min point marked (:mod:`.temperature`).
+``heat_flux``
+    |q| of the heat-flow case per triangle on a log scale, with arrows for the
+    direction of flow (:mod:`.heat_flux`).
+``surface_temperature``
+    θ along every run of interior surface against distance along it, with the
+    user's fRsi criterion as a line when one is given (:mod:`.profile`).
+
+Where the junction is small in a large section, ``materials_detail`` and
+``temperature_detail`` show its close view (:func:`.layout.detail_window`).
+The modules: :mod:`.catalogue` (which figures a run has, what each shows,
+their sizes: known without drawing and without matplotlib), :mod:`.style`
+(the house style), :mod:`.layout` (header, frame, panels), :mod:`.edges`
+and :mod:`.raster` (mesh edges and sampled fields as drawn),
+:mod:`.isotherms`, one module per figure, and :mod:`.files` (writing them).
+This module builds figures by name; it loads matplotlib only when a figure,
+or the house style, is first asked for.
+
+Every quantity plotted comes from :mod:`bridgecalc.results` (fields, q, the
+surface profiles). Lengths are in the model's length unit.
+"""
+
+from __future__ import annotations
+
+from importlib import import_module
+from pathlib import Path
+from types import MappingProxyType
+
+from .catalogue import (DETAIL_FIGURES, FIGURES, FORMATS, PAGE_WIDTH, PNG_DPI, detail_window,
+                        figure_names, figure_size)
+
+#: The module of each name that needs matplotlib, loaded when the name is
+#: first used (PEP 562 module ``__getattr__``).
+_DRAWING = MappingProxyType({
+    "plt": "style", "STYLE": "style", "TEMPERATURE_CMAP": "style", "HEAT_FLUX_CMAP": "style",
+    "material_colours": "style",
+    "materials_figure": "section", "mesh_figure": "section",
+    "temperature_figure": "temperature", "heat_flux_figure": "heat_flux",
+    "surface_temperature_figure": "profile",
+    "MAX_ISOTHERMS": "isotherms", "default_isotherm_step": "isotherms",
+    "isotherm_levels": "isotherms",
+    "save": "files", "prepare": "files",
+})
+
+__all__ = ("FIGURES", "DETAIL_FIGURES", "FORMATS", "PNG_DPI", "PAGE_WIDTH", "figure_names",
+           "figure_size", "detail_window", "build_figure", "write_figures", *_DRAWING)
+
+
+def __getattr__(name: str):
+    """The figure builders, the house style and the file writer, with matplotlib."""
+    if name in _DRAWING:
+        return getattr(import_module(f".{_DRAWING[name]}", __name__), name)
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+
+
+def build_figure(name: str, result, **options):
+    """One of :func:`figure_names` as a Figure (``isotherm_step``, ``f_rsi_min`` apply)."""
+    from .heat_flux import heat_flux_figure
+    from .profile import surface_temperature_figure
+    from .section import materials_figure, mesh_figure
+    from .temperature import temperature_figure
+    step, f_rsi_min = options.get("isotherm_step"), options.get("f_rsi_min")
+    builders = {
+        "materials": lambda: materials_figure(result),
+        "mesh": lambda: mesh_figure(result),
+        "temperature": lambda: temperature_figure(result, step),
+        "materials_detail": lambda: materials_figure(result, detail=True),
+        "temperature_detail": lambda: temperature_figure(result, step, detail=True),
+        "heat_flux": lambda: heat_flux_figure(result),
+        "surface_temperature": lambda: surface_temperature_figure(result, f_rsi_min),
+    }
+    return builders[name]()
+
+
+def write_figures(result, folder, isotherm_step=None, f_rsi_min=None,
+                  formats=FORMATS, dpi=PNG_DPI) -> dict:
+    """Build and write every figure into ``folder``.
+
+    Parameters
+    ----------
+    result : bridgecalc.results.Result
+    folder : Path
+    isotherm_step : float, optional
+        [K]
+    f_rsi_min : float, optional
+        The user's fRsi criterion [-].
+
+    Returns
+    -------
+    dict of str to list of Path
+        Files written per figure name.
+    """
+    from .files import save
+    from .style import plt
+    folder = Path(folder)
+    out = {}
+    for name in figure_names(result):
+        fig = build_figure(name, result, isotherm_step=isotherm_step, f_rsi_min=f_rsi_min)
+        try:
+            out[name] = save(fig, folder / name, formats, dpi)
+        finally:
+            plt.close(fig)
+    return out

@@ -1,0 +1,183 @@
+"""The figures of a run, the part of the section each shows, and their sizes.
+
+All of it is known before anything is drawn, and without matplotlib: the
+report is laid out from these sizes while matplotlib is still loading for
+the figures themselves. A figure of the section is a plot of one view (the
+whole section, or the junction's detail window) at equal scale, a header
+above it and a panel for its legend or colour bar: right of a tall section,
+below a wide one. Sizes are fixed in inches from the view's aspect.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+
+FIGURES = ("materials", "mesh", "temperature", "heat_flux", "surface_temperature")
+#: Figures of the junction's detail window, when there is one; each follows
+#: its view of the whole section.
+DETAIL_FIGURES = ("materials_detail", "temperature_detail")
+#: The files of each figure, in this order, and the resolution of the PNG [1/in].
+FORMATS = ("png", "svg", "pdf")
+PNG_DPI = 300
+
+
+def figure_names(result) -> tuple[str, ...]:
+    """The figures of a run: :data:`FIGURES`, and the detail views when the
+    section has a :func:`detail_window`."""
+    if detail_window(result) is None:
+        return FIGURES
+    names = []
+    for name in FIGURES:
+        names += [name] + [d for d in DETAIL_FIGURES if d == f"{name}_detail"]
+    return tuple(names)
+
+
+def figure_size(name: str, result) -> tuple[float, float]:
+    """Width and height [in] that figure ``name`` will have, without drawing it."""
+    if name == "surface_temperature":
+        return PAGE_WIDTH, PROFILE_HEIGHT
+    return PAGE_WIDTH, section_layout(_extent(name, result), legend_rows(name, result))[4]
+
+
+def _extent(name: str, result):
+    return detail_window(result) if name in DETAIL_FIGURES else padded_extent(result)
+
+
+PAGE_WIDTH = 5.6         # figure width [in]: fits the text width of an A4 page
+#: Layout [in]: margins around the plot, the side panel of tall sections and the
+#: panel below wide ones. Fixed positions instead of a layout engine: cheaper
+#: and the same every run.
+MARGIN_LEFT, MARGIN_RIGHT, MARGIN_TOP, MARGIN_BOTTOM = 0.8, 0.15, 0.62, 0.5
+SIDE_PANEL, BELOW_PANEL = 1.75, 1.05
+MAX_PLOT_HEIGHT = 5.6
+#: Height of a row of two-line legend entries [in].
+LEGEND_ROW = 0.3
+#: Height of the surface-temperature figure, and of the room under its plot
+#: for the axis and the legend [in].
+PROFILE_HEIGHT, PROFILE_BOTTOM = 3.6, 1.2
+
+
+def padded_extent(result):
+    """Plot limits [length_unit]: the section's bounding box and a 3 % margin."""
+    xy = result.mesh.nodes / result.model.metres_per_unit
+    lo, hi = xy.min(axis=0), xy.max(axis=0)
+    pad = 0.03 * float((hi - lo).max())
+    return lo - pad, hi + pad
+
+
+#: A detail view is drawn when the junction's box covers less than this share
+#: of the whole section's box (a ground-floor model's ground block, say).
+DETAIL_AREA_SHARE = 0.25
+
+
+def detail_window(result):
+    """Plot limits [length_unit] of a close view of the junction, or None.
+
+    Some sections are much larger than the construction they hold: ISO 10211
+    asks for a ground block of several metres around a ground-floor edge. A
+    view of the whole shows the junction as a few pixels. The construction
+    is where the regions' corners crowd: a corner counts when another corner
+    lies within a tenth of the section's size; the window is the box of those
+    corners with a margin, drawn only when it covers less than
+    :data:`DETAIL_AREA_SHARE` of the whole section's box and holds less than
+    that share of its solid (the tool's own rule: a sloping roof leaves its
+    box mostly empty, yet a close view of its wall would show no more).
+    """
+    model = result.model
+    corners = np.unique(np.concatenate([np.asarray(r.vertices, float)
+                                        for r in model.regions]), axis=0)
+    lo, hi = padded_extent(result)
+    size = float((hi - lo).max())
+    if len(corners) < 3 or size <= 0:
+        return None
+    from scipy.spatial import cKDTree
+    gap = cKDTree(corners).query(corners, k=2)[0][:, 1]      # to the nearest other corner
+    crowded = corners[gap < 0.1 * size]
+    if len(crowded) < 3:
+        return None
+    a, b = crowded.min(axis=0), crowded.max(axis=0)
+    pad = max(0.15 * float((b - a).max()), 0.03 * size)
+    # no further than the solid, then the same 3 % margin as a whole view
+    xy = result.mesh.nodes / model.metres_per_unit
+    a, b = np.maximum(a - pad, xy.min(axis=0)), np.minimum(b + pad, xy.max(axis=0))
+    margin = 0.03 * float((b - a).max())
+    a, b = a - margin, b + margin
+    if np.prod(b - a) >= DETAIL_AREA_SHARE * np.prod(hi - lo):
+        return None
+    corners = xy[result.mesh.triangles]                        # (T, 3, 2)
+    e1, e2 = corners[:, 1] - corners[:, 0], corners[:, 2] - corners[:, 0]
+    area = 0.5 * np.abs(e1[:, 0] * e2[:, 1] - e1[:, 1] * e2[:, 0])
+    centre = corners.mean(axis=1)
+    within = np.all((centre >= a) & (centre <= b), axis=1)
+    if area[within].sum() >= DETAIL_AREA_SHARE * area.sum():
+        return None
+    return a, b
+
+
+def view(result, detail: bool):
+    """Plot limits [length_unit]: the detail window, or the whole section."""
+    if not detail:
+        return padded_extent(result)
+    window = detail_window(result)
+    if window is None:
+        raise ValueError("this section has no detail window (figures.catalogue.detail_window)")
+    return window
+
+
+def section_layout(extent, legend_rows=0):
+    """Aspect (height/width) of a view, whether panels go beside it, and the
+    plot width, plot height and figure height [in] of a figure of it.
+
+    Parameters
+    ----------
+    extent : (ndarray, ndarray)
+        Lower-left and upper-right plot limits [length_unit].
+    legend_rows : int
+        Rows of two-line legend entries the panel below a wide view must hold.
+    """
+    lo, hi = extent
+    span = hi - lo
+    aspect = float(span[1] / max(span[0], 1e-12))
+    side = side_or_below(aspect)
+    if side:
+        plot_w = PAGE_WIDTH - MARGIN_LEFT - SIDE_PANEL - MARGIN_RIGHT
+        plot_h = plot_w * aspect
+        if plot_h > MAX_PLOT_HEIGHT:
+            plot_h = MAX_PLOT_HEIGHT
+            plot_w = plot_h / aspect
+        fig_h = MARGIN_TOP + plot_h + MARGIN_BOTTOM
+    else:
+        plot_w = PAGE_WIDTH - MARGIN_LEFT - MARGIN_RIGHT - 0.1
+        plot_h = max(plot_w * aspect, 0.25)
+        fig_h = MARGIN_TOP + plot_h + MARGIN_BOTTOM + below_panel(legend_rows)
+    return aspect, side, plot_w, plot_h, fig_h
+
+
+def below_panel(legend_rows: int) -> float:
+    """Height [in] of the panel under a wide view: a colour bar, or a legend
+    (title, then rows of two-line entries)."""
+    return max(BELOW_PANEL, 0.45 + LEGEND_ROW * legend_rows)
+
+
+def side_or_below(aspect: float) -> bool:
+    """True when legends and colour bars go to the right of a tall section."""
+    return aspect >= 0.8
+
+
+def legend_rows(name: str, result) -> int:
+    """Rows of the legend of figure ``name`` when it sits in two columns below the view."""
+    if name in ("materials", "materials_detail"):
+        return math.ceil(len(material_codes(result)[0]) / 2)
+    if name == "mesh":
+        return 2
+    return 0
+
+
+def material_codes(result):
+    """Material names in first-use order, and each triangle's index into them."""
+    names = list(dict.fromkeys(r.material for r in result.model.regions))
+    code_of_region = np.array([names.index(r.material) for r in result.model.regions])
+    return names, code_of_region[result.mesh.region]

@@ -1,0 +1,97 @@
+"""The heat-flux figure: |q| of the heat-flow case per triangle on a log scale,
+with arrows for the direction of flow."""
+
+from __future__ import annotations
+
+import matplotlib.colors as mcolors
+import matplotlib.tri as mtri
+import numpy as np
+from matplotlib.ticker import LogFormatter
+
+from ...results import heat_flux_density
+from .catalogue import material_codes, padded_extent, side_or_below
+from .edges import material_edges, segments_path
+from .layout import colour_bar, frame, new_figure
+from .raster import cells_on_grid, field_image, pixel_grid
+from .style import HEAT_FLUX_CMAP, INK, STYLE, plt
+
+
+def heat_flux_figure(result):
+    """|q| of the heat-flow case per triangle (log scale) with flow-direction arrows.
+
+    Parameters
+    ----------
+    result : bridgecalc.results.Result
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    model, mesh = result.model, result.mesh
+    xy = mesh.nodes / model.metres_per_unit
+    q = heat_flux_density(model, result.heat_flow_case.field)
+    magnitude = np.hypot(q[:, 0], q[:, 1])
+    top = float(magnitude.max())
+    floor = max(top * 1e-3, float(magnitude[magnitude > 0].min()) if np.any(magnitude > 0)
+                else 1e-12)
+    floor = min(floor, top * 0.5) if top > 0 else 1e-12
+    top = max(top, floor * 10)
+    triangulation = mtri.Triangulation(xy[:, 0], xy[:, 1], mesh.triangles)
+    extent = padded_extent(result)
+    with plt.rc_context(STYLE):
+        fig, ax, aspect = new_figure(
+            result, model.name or "junction",
+            "Heat-flux density |q| = |−λ∇θ|, heat-flow case; arrows show direction only",
+            extent)
+        # |q| is constant in each triangle: each pixel shows its triangle's value
+        gx, gy, px, py, cells = pixel_grid(fig, ax, extent, triangulation)
+        values = np.full(px.shape, np.nan)
+        values[cells >= 0] = np.clip(magnitude[cells[cells >= 0]], floor, top)
+        shade = field_image(ax, gx, gy, values, cmap=HEAT_FLUX_CMAP,
+                            norm=mcolors.LogNorm(vmin=floor, vmax=top), interpolation="nearest")
+        shade.set_gid("heat-flux-fill")
+        names, codes = material_codes(result)
+        ax.add_artist(segments_path(xy[material_edges(mesh, codes)], edgecolor="white",
+                                   linewidth=0.5, alpha=0.6))
+        _flow_arrows(ax, triangulation, xy, q, magnitude)
+        frame(ax, result, extent)
+        bar = colour_bar(fig, ax, shade, aspect, "heat-flux density |q| [W/m²], log scale")
+        # plain numbers (0.1, 1, 10; 3, 6 between them when the range is
+        # short), not powers of ten in mathtext
+        axis = bar.ax.yaxis if side_or_below(aspect) else bar.ax.xaxis
+        axis.set_major_formatter(PlainLogFormatter())
+        axis.set_minor_formatter(PlainLogFormatter(labelOnlyBase=False))
+    return fig
+
+
+class PlainLogFormatter(LogFormatter):
+    """Log-axis tick labels as plain numbers (0.1, 2, 40), not mathtext powers;
+    which ticks get a label is matplotlib's own choice."""
+
+    def _num_to_string(self, x, vmin, vmax):
+        return f"{x:g}"
+
+
+def _flow_arrows(ax, triangulation, xy, q, magnitude):
+    """Unit arrows along q on a regular grid, one per cell inside the solid."""
+    lo, hi = xy.min(axis=0), xy.max(axis=0)
+    span = hi - lo
+    spacing = float(span.max()) / 26
+    nx = max(int(span[0] / spacing), 1)
+    ny = max(int(span[1] / spacing), 1)
+    gx = lo[0] + (np.arange(nx) + 0.5) * span[0] / nx
+    gy = lo[1] + (np.arange(ny) + 0.5) * span[1] / ny
+    px, py = np.meshgrid(gx, gy)
+    px, py = px.ravel(), py.ravel()
+    cell = cells_on_grid(xy, triangulation.triangles, gx, gy).ravel()
+    inside = cell >= 0
+    cell = cell[inside]
+    strong = magnitude[cell] > 1e-9 * max(float(magnitude.max()), 1e-300)
+    cell = cell[strong]
+    u = q[cell, 0] / magnitude[cell]
+    v = q[cell, 1] / magnitude[cell]
+    length = 0.6 * min(span[0] / nx, span[1] / ny)
+    ax.quiver(px[inside][strong], py[inside][strong], u * length, v * length,
+              angles="xy", scale_units="xy", scale=1.0, pivot="middle", color="white",
+              edgecolor=INK, linewidth=0.35, width=0.0035, headwidth=4, headlength=4.5,
+              headaxislength=4, gid="flow-arrows", zorder=4)

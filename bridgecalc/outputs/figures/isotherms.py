@@ -1,0 +1,158 @@
+"""Isotherms: which temperatures get a line, and where each gets its label."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from ...results import design_temperatures
+from .layout import nice_step
+from .style import INK
+
+
+#: Isotherms drawn at most in one figure; a finer step is coarsened (and says so).
+MAX_ISOTHERMS = 200
+
+
+def isotherm_levels(lo: float, hi: float, step: float):
+    """Isotherm temperatures strictly between ``lo`` and ``hi`` [°C], multiples of ``step``
+    [K], and the step used: ``step``, or past :data:`MAX_ISOTHERMS` lines, the
+    1-2-5 step that keeps within it."""
+    if (hi - lo) / step > MAX_ISOTHERMS:
+        step = nice_step((hi - lo) / MAX_ISOTHERMS)
+    levels = _multiples(lo, hi, step)
+    return levels[(levels > lo) & (levels < hi)], step
+
+
+def _multiples(lo: float, hi: float, step: float) -> np.ndarray:
+    """Multiples of ``step`` from ``lo`` to ``hi``, both included to round-off."""
+    return np.arange(math.ceil(lo / step - 1e-9) * step, hi + 1e-9 * step, step)
+
+
+def default_isotherm_step(model) -> float:
+    """1, 2 or 5 × 10ⁿ K near a tenth of θi − θe [K]."""
+    theta_i, theta_e = design_temperatures(model)
+    return nice_step(abs(theta_i - theta_e) / 10)
+
+
+def bar_ticks(lo, hi, step):
+    """Colour-bar ticks [°C]: multiples of the isotherm step, doubled until at most 12."""
+    count = (hi - lo) / step
+    if count > 12:
+        step *= 2.0 ** math.ceil(math.log2(count / 12))
+    return _multiples(lo, hi, step)
+
+
+#: Isotherm labels [pt]: font size, and the clear space kept around each.
+ISOTHERM_LABEL_SIZE, ISOTHERM_LABEL_CLEARANCE = 6.5, 3.0
+
+
+def label_isotherms(ax, contours, field, avoid=()):
+    """Label each isotherm once, clear of the others where the plot allows.
+
+    A label follows its line (matplotlib turns it along it), so across the
+    line it needs half its height clear of other isotherms. Candidate places
+    are taken along the middle of every line inside the plot; each label is
+    taken as a disc of its width, whatever its turn, and must stay inside
+    the plot, off labels already placed and off the boxes in ``avoid``.
+
+    First every level that has a place with that much room gets the one
+    with the most room (up to four times the least; then the one nearest the
+    middle of its line). Where isotherms crowd, as in insulation, there is
+    no such place; those levels get the least crowded place left, on a box
+    of the field's own colour at that temperature, which hides the
+    neighbouring lines under the label only. A level that finds no place at
+    all stays unlabelled; the colour bar's ticks are the isotherm levels.
+
+    Parameters
+    ----------
+    ax : matplotlib.axes.Axes
+        With its limits and aspect final.
+    contours : matplotlib.contour.ContourSet
+    field : matplotlib.cm.ScalarMappable
+        Colour map and norm of the field under the isotherms.
+    avoid : list of matplotlib.transforms.Bbox
+        Display boxes to keep labels off (the θsi,min label, say).
+
+    Returns
+    -------
+    list of float
+        The levels that got a label.
+    """
+    from scipy.spatial import cKDTree
+    fig = ax.get_figure()
+    box = ax.get_window_extent()
+    per_pt = fig.dpi / 72.0
+    clear = ISOTHERM_LABEL_CLEARANCE * per_pt
+    across = ISOTHERM_LABEL_SIZE * per_pt / 2 + clear
+    text = lambda v: f"{v:g}"                      # noqa: E731
+    lines = []               # per level: points a pixel apart along each piece [display]
+    for level, path in zip(contours.levels, contours.get_paths()):
+        pieces = path.to_polygons(closed_only=False) if len(path.vertices) else []
+        lines.append((float(level), [_densify(ax.transData.transform(np.asarray(q, float)),
+                                              fig.dpi / 100)
+                                     for q in pieces if len(q) >= 2]))
+    trees = [cKDTree(np.concatenate(pts)) if pts else None for _, pts in lines]
+    candidates = {}
+    for k, (level, pieces) in enumerate(lines):
+        if not pieces:
+            continue
+        # up to 41 points along the middle 80 % of each piece; centrality is
+        # 1 at a piece's middle and 0.2 at the ends of that stretch
+        cand, central = [], []
+        for q in pieces:
+            pick = np.unique((np.linspace(0.1, 0.9, 41) * (len(q) - 1)).round().astype(int))
+            cand.append(q[pick])
+            central.append(1 - np.abs(2 * pick / max(len(q) - 1, 1) - 1))
+        cand = np.concatenate(cand)
+        room = np.full(len(cand), np.inf)
+        for j, tree in enumerate(trees):
+            if j != k and tree is not None:
+                room = np.minimum(room, tree.query(cand)[0])
+        radius = 0.62 * len(text(level)) * ISOTHERM_LABEL_SIZE * per_pt / 2 + clear
+        candidates[k] = (cand, np.concatenate(central), room, radius)
+    discs = []                                    # (x, y, radius) of placed labels
+    boxes = [(b.x0, b.y0, b.x1, b.y1) for b in avoid]
+    places = {}
+    for crowded in (False, True):
+        for k, (cand, central, room, radius) in candidates.items():
+            if k in places:
+                continue
+            ok = ((cand[:, 0] >= box.x0 + radius) & (cand[:, 0] <= box.x1 - radius)
+                  & (cand[:, 1] >= box.y0 + radius) & (cand[:, 1] <= box.y1 - radius))
+            if not crowded:
+                ok &= room >= across
+            for x, y, r in discs:
+                ok &= np.hypot(cand[:, 0] - x, cand[:, 1] - y) >= r + radius
+            for x0, y0, x1, y1 in boxes:
+                nx = np.clip(cand[:, 0], x0, x1)
+                ny = np.clip(cand[:, 1], y0, y1)
+                ok &= np.hypot(cand[:, 0] - nx, cand[:, 1] - ny) >= radius
+            if not ok.any():
+                continue
+            score = np.minimum(room, 4 * across) + 1e-3 * across * central
+            x, y = cand[int(np.flatnonzero(ok)[np.argmax(score[ok])])]
+            discs.append((x, y, radius))
+            places[k] = ax.transData.inverted().transform((x, y))
+    if not places:
+        return []
+    order = sorted(places)
+    labelled = [lines[k][0] for k in order]
+    contours.clabel(levels=labelled, manual=[places[k] for k in order], fmt=text,
+                    fontsize=ISOTHERM_LABEL_SIZE, inline=True, inline_spacing=2)
+    for label, level in zip(contours.labelTexts, labelled):     # added in this order
+        fill = field.cmap(field.norm(level))
+        light = 0.2126 * fill[0] + 0.7152 * fill[1] + 0.0722 * fill[2] > 0.45
+        label.set_color(INK if light else "white")
+        label.set_bbox(dict(boxstyle="square,pad=0.12", fc=fill, ec="none"))
+    return labelled
+
+
+def _densify(points, spacing):
+    """A polyline with points inserted so that none lies more than ``spacing`` apart."""
+    step = np.diff(points, axis=0)
+    count = np.maximum(1, np.ceil(np.hypot(step[:, 0], step[:, 1]) / spacing)).astype(int)
+    segment = np.repeat(np.arange(len(step)), count)
+    t = (np.arange(count.sum()) - np.repeat(np.cumsum(count) - count, count)) / count[segment]
+    return np.concatenate([points[segment] + step[segment] * t[:, None], points[-1:]])

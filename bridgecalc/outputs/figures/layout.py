@@ -1,0 +1,218 @@
+"""The house layout of a figure of the section: header, plot frame, scale bar,
+and the legend or colour bar in the panel that :mod:`.catalogue` sized
+(right of a tall section, below a wide one)."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+from matplotlib.cm import ScalarMappable
+from matplotlib.lines import Line2D
+from matplotlib.patches import Polygon
+from mpl_toolkits.axes_grid1.anchored_artists import AnchoredSizeBar
+
+from .catalogue import (MARGIN_BOTTOM, MARGIN_LEFT, MARGIN_RIGHT, PAGE_WIDTH, SIDE_PANEL,
+                        below_panel, detail_window, section_layout, side_or_below)
+from .style import INK, INTERIOR, MUTED, plt
+
+
+def outline_detail(ax, result):
+    """The detail window as a dashed box on a view of the whole section."""
+    window = detail_window(result)
+    if window is None:
+        return
+    (x0, y0), (x1, y1) = window
+    ax.add_artist(Polygon([(x0, y0), (x1, y0), (x1, y1), (x0, y1)], closed=True, fill=False,
+                          edgecolor=INK, linewidth=0.8, linestyle=(0, (3, 2)), zorder=6,
+                          gid="detail-window"))
+    ax.annotate("detail", (x1, y1), xytext=(2, 2), textcoords="offset points",
+                ha="left", va="bottom", fontsize=6.5, color=INK, zorder=6,
+                annotation_clip=False,
+                bbox=dict(boxstyle="square,pad=0.15", fc="white", ec="none", alpha=0.85))
+
+
+#: Header [in from the top]: the top of the title line, of the subtitle line, and
+#: the rule under them.
+TITLE_AT, SUBTITLE_AT, RULE_AT = 0.12, 0.33, 0.5
+
+
+def header(fig, title: str, subtitle: str) -> None:
+    """The house header: bold title, muted subtitle, a thin rule under them.
+
+    Each line is set smaller when it would not fit the figure's width, and
+    shortened with an ellipsis when even 6 pt would not.
+    """
+    fig_h = fig.get_figheight()
+    left = 0.12 / PAGE_WIDTH
+    for text, at, size, style in ((title, TITLE_AT, 9.5, dict(fontweight="bold", color=INK)),
+                                  (subtitle, SUBTITLE_AT, 7.5, dict(color=MUTED))):
+        artist = fig.text(left, 1 - at / fig_h, text, ha="left", va="top", fontsize=size,
+                          parse_math=False, **style)
+        fit_text(artist, PAGE_WIDTH - 0.24)
+    fig.add_artist(Line2D([left, 1 - left], [1 - RULE_AT / fig_h] * 2, color=INTERIOR,
+                          lw=0.8))
+
+
+def text_width(artist) -> float:
+    """Width of a one-line text artist [in], from the font's own outlines.
+
+    Measured without hinting, as the vector formats draw it; Agg at 300 dpi
+    comes within a fraction of a percent of it (at screen resolution the
+    hinted width is some 5 % less, which is why it is not measured there).
+    """
+    from matplotlib.textpath import text_to_path
+    width, _, _ = text_to_path.get_text_width_height_descent(
+        artist.get_text(), artist.get_fontproperties(), ismath=False)
+    return width / 72.0
+
+
+def fit_text(artist, width: float, smallest: float = 6.0) -> None:
+    """Shrink a one-line text to ``width`` [in], down to ``smallest`` [pt], then
+    shorten it with an ellipsis until it fits."""
+    have = text_width(artist)
+    if have <= width:
+        return
+    artist.set_fontsize(max(smallest, artist.get_fontsize() * width / have * 0.98))
+    if text_width(artist) <= width:
+        return
+    # the longest start of the text that fits with an ellipsis, by bisection
+    text = artist.get_text()
+    fits, too_long = 0, len(text)
+    while too_long - fits > 1:
+        middle = (fits + too_long) // 2
+        artist.set_text(text[:middle].rstrip() + "…")
+        if text_width(artist) <= width:
+            fits = middle
+        else:
+            too_long = middle
+    artist.set_text(text[:fits].rstrip() + "…")
+
+
+def new_figure(result, title: str, subtitle: str, extent, legend_rows=0,
+               panel_at_edge=False):
+    """A figure sized to the view's aspect, with the house header.
+
+    Returns the figure, the plot axes and the aspect; the panel box (left,
+    bottom, width, height) [figure fraction] for the legend or colour bar is
+    kept on the figure. ``panel_at_edge`` puts a side panel at the page's
+    right edge instead of beside the plot: beside a narrow plot, the room
+    between is then free for the θsi,min label.
+    """
+    aspect, side, plot_w, plot_h, fig_h = section_layout(extent, legend_rows)
+    fig = plt.figure(figsize=(PAGE_WIDTH, fig_h))
+    below = below_panel(legend_rows)
+    bottom = MARGIN_BOTTOM + (0.0 if side else below)
+    ax = fig.add_axes([MARGIN_LEFT / PAGE_WIDTH, bottom / fig_h,
+                       plot_w / PAGE_WIDTH, plot_h / fig_h])
+    header(fig, title, subtitle)
+    if side:
+        left = ((PAGE_WIDTH - MARGIN_RIGHT - SIDE_PANEL if panel_at_edge
+                 else MARGIN_LEFT + plot_w) + 0.2) / PAGE_WIDTH
+        panel = (left, bottom / fig_h, 1 - left - MARGIN_RIGHT / PAGE_WIDTH, plot_h / fig_h)
+    else:
+        panel = (MARGIN_LEFT / PAGE_WIDTH, 0.1 / fig_h, plot_w / PAGE_WIDTH,
+                 (below - 0.25) / fig_h)
+    fig._bridgecalc_panel = panel
+    return fig, ax, aspect
+
+
+def frame(ax, result, extent):
+    """Equal scaling, axes in the model's length unit, limits of the view."""
+    model = result.model
+    lo, hi = extent
+    ax.set_xlim(lo[0], hi[0])
+    ax.set_ylim(lo[1], hi[1])
+    ax.set_aspect("equal", adjustable="box", anchor="SW")
+    ax.apply_aspect()          # the axes' final box, for placing labels in it
+    ax.set_xlabel(f"x [{model.length_unit}]")
+    ax.set_ylabel(f"y [{model.length_unit}]")
+    ax.tick_params(length=3, width=0.5)
+    _scale_bar(ax, result, extent)
+
+
+def nice_length(raw: float) -> float:
+    """1, 2 or 5 times a power of ten, not more than ``raw`` (``raw`` > 0)."""
+    exponent = math.floor(math.log10(raw))
+    best = 10.0 ** exponent
+    for m in (1, 2, 5):
+        if m * 10.0 ** exponent <= raw * (1 + 1e-12):
+            best = m * 10.0 ** exponent
+    return best
+
+
+def nice_step(raw: float) -> float:
+    """1, 2 or 5 times a power of ten, at least ``raw`` (``raw`` > 0)."""
+    exponent = math.floor(math.log10(raw))
+    for m in (1, 2, 5, 10):
+        if m * 10.0 ** exponent >= raw * (1 - 1e-12):
+            return float(m * 10.0 ** exponent)
+    return float(10.0 ** (exponent + 1))
+
+
+def _emptiest_corner(result, extent) -> str:
+    """The corner of the view with the fewest triangle centroids, for the scale bar."""
+    xy = result.mesh.nodes / result.model.metres_per_unit
+    centroids = xy[result.mesh.triangles].mean(axis=1)
+    lo, hi = extent
+    span = np.maximum(hi - lo, 1e-12)
+    rel = (centroids - lo) / span
+    corners = {"lower left": (rel[:, 0] < 0.35) & (rel[:, 1] < 0.15),
+               "lower right": (rel[:, 0] > 0.65) & (rel[:, 1] < 0.15),
+               "upper left": (rel[:, 0] < 0.35) & (rel[:, 1] > 0.85),
+               "upper right": (rel[:, 0] > 0.65) & (rel[:, 1] > 0.85)}
+    inside = (rel >= 0).all(axis=1) & (rel <= 1).all(axis=1)
+    return min(corners, key=lambda k: (int((corners[k] & inside).sum()), k))
+
+
+def _scale_bar(ax, result, extent):
+    model = result.model
+    lo, hi = extent
+    length = nice_length(float(hi[0] - lo[0]) / 4)
+    bar = AnchoredSizeBar(ax.transData, length, f"{length:g} {model.length_unit}",
+                          _emptiest_corner(result, extent), pad=0.4, borderpad=0.6, sep=3,
+                          color=INK, frameon=True, size_vertical=0,
+                          fontproperties={"size": 7})
+    bar.patch.set(facecolor="white", alpha=0.85, edgecolor="none")
+    bar.set_gid("scale-bar")
+    ax.add_artist(bar)
+
+
+def legend(fig, ax, handles, aspect, title=None):
+    """Legend in the figure's panel: right of a tall section, below a wide one."""
+    left, bottom, width, height = fig._bridgecalc_panel
+    side = side_or_below(aspect)
+    leg = fig.legend(handles=handles, loc="upper left",
+                     bbox_to_anchor=(left, bottom + height), borderaxespad=0.0,
+                     title=title, alignment="left", handlelength=2.4, handleheight=1.8,
+                     ncols=1 if side else 2, labelspacing=0.6)
+    leg.get_title().set_fontweight("bold")
+    for text in leg.get_texts():
+        text.set_parse_math(False)        # material names are the user's, "$" included
+    leg.set_gid("legend")
+    return leg
+
+
+def colour_bar(fig, ax, mappable, aspect, label, ticks=None):
+    """Colour bar in the figure's panel: upright beside a tall section, flat below a wide one.
+
+    It is drawn from ``mappable``'s colour map and norm only (a field image
+    holds colours, not values).
+    """
+    left, bottom, width, height = fig._bridgecalc_panel
+    mappable = ScalarMappable(norm=mappable.norm, cmap=mappable.cmap)
+    if side_or_below(aspect):
+        bar_h = min(height, 4.5 / fig.get_figheight())
+        cax = fig.add_axes([left, bottom + height - bar_h, 0.16 / PAGE_WIDTH, bar_h])
+        bar = fig.colorbar(mappable, cax=cax)
+    else:
+        cax = fig.add_axes([left, bottom + height - 0.16 / fig.get_figheight(),
+                            min(width, 4.0 / PAGE_WIDTH), 0.16 / fig.get_figheight()])
+        bar = fig.colorbar(mappable, cax=cax, orientation="horizontal")
+    bar.set_label(label)
+    if ticks is not None:
+        bar.set_ticks(ticks)
+    bar.outline.set_linewidth(0.5)
+    cax.tick_params(labelsize=7, length=2.5, width=0.5)
+    cax.set_gid("colour-bar")
+    return bar

@@ -1,0 +1,161 @@
+"""The temperature figure: the surface-temperature case's field with labelled
+isotherms at a chosen step and the θsi,min point marked."""
+
+from __future__ import annotations
+
+import matplotlib.colors as mcolors
+import matplotlib.tri as mtri
+import numpy as np
+from matplotlib.text import Text
+
+from ...results import design_temperatures, printed_position
+from .catalogue import material_codes, view
+from .edges import material_edges, segments_path
+from .isotherms import (MAX_ISOTHERMS, bar_ticks, default_isotherm_step, isotherm_levels,
+                        label_isotherms)
+from .layout import colour_bar, frame, new_figure, outline_detail
+from .raster import field_image, linear_in_cells, pixel_grid
+from .style import INK, STYLE, TEMPERATURE_CMAP, plt
+
+
+def temperature_figure(result, isotherm_step=None, detail=False):
+    """Temperature field of the surface-temperature case with labelled isotherms.
+
+    Parameters
+    ----------
+    result : bridgecalc.results.Result
+    isotherm_step : float, optional
+        Temperature step between isotherms [K]; default 1, 2 or 5 × 10ⁿ near
+        (θi − θe)/10.
+    detail : bool
+        Draw the :func:`detail_window` only (there must be one).
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    model, mesh = result.model, result.mesh
+    case = result.surface_temperature_case
+    xy = mesh.nodes / model.metres_per_unit
+    theta = case.field.nodal
+    triangulation = mtri.Triangulation(xy[:, 0], xy[:, 1], mesh.triangles)
+    theta_i, theta_e = design_temperatures(model)
+    lo, hi = float(theta.min()), float(theta.max())
+    asked = isotherm_step or default_isotherm_step(model)
+    lines, step = isotherm_levels(lo, hi, asked)
+    extent = view(result, detail)
+    with plt.rc_context(STYLE):
+        fig, ax, aspect = new_figure(
+            result, model.name or "junction",
+            ("Temperature at the junction (detail)" if detail else "Temperature")
+            + f", surface-temperature case (θi = {theta_i:g} °C, θe = {theta_e:g} °C); "
+            f"isotherms every {step:g} K"
+            + (f" (not {asked:g} K: at most {MAX_ISOTHERMS} lines)" if step != asked else ""),
+            extent, panel_at_edge=True)
+        frame(ax, result, extent)
+        vmin = min(theta_i, theta_e, lo)
+        vmax = max(theta_i, theta_e, hi)
+        # Linear interpolation in each triangle: for P1 it is the computed
+        # field itself, sampled at the image's pixels.
+        gx, gy, px, py, cells = pixel_grid(fig, ax, extent, triangulation)
+        values = np.full(px.shape, np.nan)
+        inside = cells >= 0
+        values[inside] = linear_in_cells(xy, mesh.triangles, theta, cells[inside],
+                                         px[inside], py[inside])
+        filled = field_image(ax, gx, gy, values, cmap=TEMPERATURE_CMAP,
+                             norm=mcolors.Normalize(vmin=vmin, vmax=vmax),
+                             interpolation="bilinear")
+        filled.set_gid("temperature-fill")
+        names, codes = material_codes(result)
+        ax.add_artist(segments_path(xy[material_edges(mesh, codes)], edgecolor="white",
+                                   linewidth=0.6, alpha=0.7))
+        marker = _mark_minimum(ax, result, extent, (gx, gy, cells))
+        if len(lines):
+            iso = ax.tricontour(triangulation, theta, levels=lines, colors=INK,
+                                linewidths=0.55)
+            label_isotherms(ax, iso, filled, avoid=[] if marker is None else [marker])
+        if not detail:
+            outline_detail(ax, result)
+        colour_bar(fig, ax, filled, aspect, "temperature θ [°C]",
+                   ticks=bar_ticks(vmin, vmax, step))
+    return fig
+
+
+def _mark_minimum(ax, result, extent, grid):
+    """Ring at θsi,min, and its label where it covers the least of the solid.
+
+    The label is tried in the four diagonal directions at two distances; a
+    place fully inside the plot is preferred, then the one over the least
+    solid. Nothing is drawn when θsi,min lies outside the view.
+
+    Parameters
+    ----------
+    grid : (ndarray, ndarray, ndarray)
+        Pixel centres gx, gy [length_unit] over the view and the triangle
+        under each (:func:`pixel_grid`), for how much solid a place covers.
+
+    Returns
+    -------
+    matplotlib.transforms.Bbox or None
+        The label's box [display units], for other labels to keep off.
+    """
+    from matplotlib.transforms import Bbox
+    model = result.model
+    case = result.surface_temperature_case
+    x, y = case.theta_si_min_at
+    lo, hi = extent
+    if not (lo[0] <= x <= hi[0] and lo[1] <= y <= hi[1]):
+        return None
+    ax.plot([x], [y], marker="o", ms=9, mfc="white", mec=INK, mew=1.6, zorder=5,
+            gid="theta-si-min-marker", clip_on=False)
+    ax.plot([x], [y], marker="+", ms=9, color=INK, mew=1.0, zorder=6, clip_on=False)
+    value = f"{case.theta_si_min:.2f} °C"
+    where = f"at {printed_position(model, case.theta_si_min_at)} {model.length_unit}"
+    label = ax.annotate(
+        "", (x, y), xytext=(16, 16), textcoords="offset points", fontsize=7, ha="left",
+        va="bottom", zorder=7, gid="theta-si-min-label",
+        bbox=dict(boxstyle="square,pad=0.3", fc="white", ec=INK, lw=0.6),
+        arrowprops=dict(arrowstyle="-", color=INK, lw=0.7))
+    fig = ax.get_figure()
+    renderer = fig.canvas.get_renderer()
+    px, py = ax.transData.transform((x, y))
+    # the plot, and the free room right of it up to the side panel
+    plot = ax.get_window_extent()
+    panel_left = fig._bridgecalc_panel[0] * fig.bbox.width - 0.1 * fig.dpi
+    plot = Bbox.from_extents(plot.x0, plot.y0, max(plot.x1, panel_left), plot.y1)
+    to_data = ax.transData.inverted()
+    gx, gy, cells = grid
+    best = None
+    # shorter wordings for a narrow plot; the report gives the position anyway
+    for wording in (f"θsi,min = {value}\n{where}", f"θsi,min = {value}", f"θsi,min\n{value}"):
+        label.set_text(wording)
+        # the text's box, its padding, and 6 % for the finer hinting at 300 dpi
+        text = Text.get_window_extent(label, renderer)
+        pad = 2 * 0.3 * 7 * fig.dpi / 72
+        w, h = 1.06 * text.width + pad, text.height + pad
+        for distance in (16, 40):
+            for dx, dy in ((1, 1), (-1, 1), (1, -1), (-1, -1)):
+                off = distance * fig.dpi / 72
+                x0 = px + dx * off - (w if dx < 0 else 0)
+                y0 = py + dy * off - (h if dy < 0 else 0)
+                box = Bbox.from_bounds(x0, y0, w, h)
+                inside = (box.x0 >= plot.x0 and box.x1 <= plot.x1
+                          and box.y0 >= plot.y0 and box.y1 <= plot.y1)
+                # the share of the box's pixels over the solid (outside the view: none)
+                (ax0, ay0), (ax1, ay1) = to_data.transform([(box.x0, box.y0),
+                                                            (box.x1, box.y1)])
+                under = cells[slice(*np.searchsorted(gy, (ay0, ay1))),
+                              slice(*np.searchsorted(gx, (ax0, ax1)))]
+                covered = float((under >= 0).sum()) / max(
+                    1.0, (ax1 - ax0) / (gx[1] - gx[0]) * (ay1 - ay0) / (gy[1] - gy[0]))
+                score = (not inside, round(covered, 6), distance, -dy, -dx)
+                if best is None or score < best[0]:
+                    best = (score, dx, dy, distance, box, wording)
+        if not best[0][0]:          # a place inside the plot: this wording fits
+            break
+    label.set_text(best[5])
+    _, dx, dy, distance, box, _ = best
+    label.xyann = (dx * distance, dy * distance)
+    label.set_horizontalalignment("left" if dx > 0 else "right")
+    label.set_verticalalignment("bottom" if dy > 0 else "top")
+    return box
