@@ -19,7 +19,9 @@ from __future__ import annotations
 from importlib import resources
 from pathlib import Path
 
-from .errors import ModelError
+import dataclasses
+
+from .errors import BridgecalcError, ModelError
 from .mesh import MeshOptions, build_mesh
 from .model import Model
 from .model import rules as model_rules
@@ -28,7 +30,7 @@ from .readers import script as scripts
 from .results import Result, build_result, flanking_sums
 from .solve.cases import solve_cases
 from .solve.linsolve import one_blas_thread
-from .study.convergence import DEFAULT_MAX_NODES, DEFAULT_TOLERANCE, converge
+from .study.convergence import DEFAULT_MAX_NODES, DEFAULT_TOLERANCE, FIRST_MESH, converge
 
 #: The shipped geometry script the demo computes.
 DEMO_SCRIPT = "slab_edge.py"
@@ -73,7 +75,7 @@ def demo_model() -> Model:
 
 def run(model: Model, mesh_options: MeshOptions | None = None, element: str = "P1", *,
         tolerance: float = DEFAULT_TOLERANCE, max_nodes: int = DEFAULT_MAX_NODES,
-        refinement: str | None = "adaptive") -> Result:
+        refinement: str | None = "adaptive", refine: float = 1.0) -> Result:
     """Mesh and solve a model until the answer no longer depends on the mesh.
 
     Parameters
@@ -91,6 +93,9 @@ def run(model: Model, mesh_options: MeshOptions | None = None, element: str = "P
     refinement : str or None
         ``"adaptive"`` (default; P2 studies refine uniformly), ``"uniform"``,
         or None for one mesh without a study (``convergence`` is then None).
+    refine : float
+        Divides every element size of the study's first mesh (when no
+        ``mesh_options`` are given) [-]; the command line's ``--refine``.
 
     Returns
     -------
@@ -99,6 +104,10 @@ def run(model: Model, mesh_options: MeshOptions | None = None, element: str = "P
         Ψ and L2D are the study's best (extrapolated) estimates (see
         :mod:`bridgecalc.study.convergence`).
     """
+    if not (isinstance(refine, (int, float)) and refine > 0):
+        raise BridgecalcError(f"--refine must be a positive number, got {refine!r}")
+    if mesh_options is None and refine != 1.0:
+        mesh_options = dataclasses.replace(FIRST_MESH, refinement=refine)
     with one_blas_thread():
         return _run(model, mesh_options, element, tolerance, max_nodes, refinement)
 
@@ -133,3 +142,86 @@ def check() -> list:
     rows = run_checks()
     save(stamp_from_rows(rows))
     return rows
+
+
+def format_checks(rows) -> str:
+    """The validation cases as the table ``bridgecalc check`` prints."""
+    from .validation import format_table
+    return format_table(rows)
+
+
+def write_outputs(result: Result, out_dir, *, f_rsi_min=None, isotherm_step=None, stop=None,
+                  workers=None):
+    """Write results.json, the exports, the figures and the report into ``out_dir``,
+    whole or not at all (see :func:`bridgecalc.outputs.write_outputs`)."""
+    from .outputs import write_outputs as write
+    return write(result, out_dir, f_rsi_min=f_rsi_min, isotherm_step=isotherm_step,
+                 dimension_system=result.model.dimension_system, stop=stop, workers=workers)
+
+
+def check_options(f_rsi_min=None, isotherm_step=None, model=None) -> None:
+    """Refuse output options that cannot be honoured, before anything is computed."""
+    from .outputs import check_options as check_output_options
+    check_output_options(f_rsi_min, isotherm_step, model)
+
+
+def summary(result: Result, out_dir) -> str:
+    """The one-screen summary of a run."""
+    from .outputs.summary import run_summary
+    return run_summary(result, out_dir)
+
+
+def sweep_plan(script, vary_items, settings=()) -> tuple[dict, dict]:
+    """The varied and the fixed parameters of a sweep, from ``NAME=...`` texts.
+
+    Raises
+    ------
+    BridgecalcError
+        For a script that is not one, or values it cannot take.
+    """
+    from .sweep import parse_vary
+    script = Path(script)
+    if script.suffix != ".py":
+        raise BridgecalcError(f"{script}: sweep needs a geometry script (.py)")
+    module = scripts.load_module(script)
+    return (parse_vary(module, vary_items, script),
+            scripts.parse_assignments(module, settings, script))
+
+
+def sweep(script, vary: dict, fixed: dict | None = None, *, workers=None, scheduler=None,
+          progress=False) -> list:
+    """Every combination of ``vary`` through the script (:func:`bridgecalc.sweep.sweep`)."""
+    from .sweep import sweep as run_sweep
+    return run_sweep(script, vary, workers=workers, scheduler=scheduler, base_params=fixed,
+                     progress=progress)
+
+
+def write_sweep(rows, out_dir, script, vary=None, fixed=None, stop=None):
+    """sweep.csv, sweep.png and sweep.txt, whole or not at all."""
+    from .sweep import write_sweep as write
+    return write(rows, out_dir, script, vary, fixed, stop=stop)
+
+
+def sweep_summary(rows, out_dir, seconds=None) -> str:
+    """The lines printed after a sweep."""
+    from .sweep import summary as sweep_lines
+    return sweep_lines(rows, out_dir, seconds)
+
+
+def fresh_folder(base) -> Path:
+    """``base``, or ``base-2``, ``base-3``, ... : the first that does not exist."""
+    from .outputs import fresh_folder as first_free
+    return first_free(Path(base))
+
+
+def stop_request():
+    """An object that, installed as a signal handler, stops a run being written
+    without leaving anything behind (:class:`bridgecalc.outputs.StopRequest`)."""
+    from .outputs import StopRequest
+    return StopRequest()
+
+
+def report_file() -> str:
+    """The name of the HTML report in an output folder."""
+    from .outputs import REPORT_FILE
+    return REPORT_FILE

@@ -10,7 +10,7 @@ import argparse
 import sys
 from pathlib import Path
 
-from . import __version__
+from . import __version__, api
 from .errors import BridgecalcError
 
 def _parser() -> argparse.ArgumentParser:
@@ -79,66 +79,18 @@ def _report_options(parser) -> None:
                              "(default: about a tenth of θi − θe)")
 
 
-def summary(result, out_dir: Path) -> str:
-    """The one-screen table printed after a run."""
-    from .results import printed_position
-    hf, st = result.heat_flow_case, result.surface_temperature_case
-    model = result.model
-    unit = model.length_unit
-    lines = [f"{model.name or model.origin}",
-             f"  mesh               {result.mesh.node_count} nodes, "
-             f"{result.mesh.triangle_count} triangles, {result.element}"]
-    if model.dimension_system:
-        lines.append(f"  dimensions         {model.dimension_system} (flanking lengths, Ψ)")
-    for name, flow in hf.heat_flow.items():
-        lines.append(f"  heat flow {name:<9}{flow:12.4f} W/m")
-    lines.append(f"  balance            {hf.balance:12.1e}")
-    if hf.coupling_coefficient is not None:
-        lines.append(f"  L2D                {hf.coupling_coefficient:12.4f} W/(m·K)")
-    if len(hf.coupling_coefficients) > 1:
-        for c in hf.coupling_coefficients:
-            pair = f"{c.between[0]}–{c.between[1]}"
-            psi = "" if c.psi is None else f"   Ψ {c.psi:9.4f} W/(m·K)"
-            lines.append(f"  L {pair[:16]:<16}{c.value:12.4f} W/(m·K){psi}")
-    for f in hf.flanking:
-        lines.append(f"  U·l {f.name[:14]:<15}{f.ul:12.4f} W/(m·K)")
-    if hf.psi is not None:
-        lines.append(f"  Ψ                  {hf.psi:12.4f} W/(m·K)")
-    at = printed_position(model, st.theta_si_min_at)
-    lines.append(f"  θsi,min            {st.theta_si_min:12.2f} °C at {at} {unit}")
-    if st.f_rsi is not None:
-        lines.append(f"  fRsi               {st.f_rsi:12.3f}")
-    else:
-        weights = ", ".join(f"{name} {g:.3f}" for name, g in st.weighting_factors.items())
-        lines.append(f"  g at θsi,min       {weights} ({st.theta_si_min_environment}'s surface)")
-    for name, value in st.probes.items():
-        lines.append(f"  probe {name:<13}{value:12.2f} °C (surface-temperature case)")
-    if getattr(result, "convergence", None) is not None:
-        lines.extend("  " + line for line in result.convergence.summary_lines())
-    lines.append(f"  written to {out_dir}")
-    lines.append("  Results support, and do not replace, a qualified practitioner's judgement;")
-    lines.append("  inputs and criteria must follow the codes in force where the building stands.")
-    return "\n".join(lines)
-
-
 def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None, stop=None) -> Path:
-    import dataclasses
-
-    from . import api
-    from .outputs import check_options, write_outputs
-    from .study.convergence import DEFAULT_MAX_NODES, DEFAULT_TOLERANCE, FIRST_MESH
     f_rsi_min = getattr(args, "f_rsi_min", None)
     isotherm_step = getattr(args, "isotherm_step", None)
-    check_options(f_rsi_min, isotherm_step, model)   # bad options: exit 2 before any work
+    api.check_options(f_rsi_min, isotherm_step, model)   # bad options: exit 2 before any work
     tolerance = getattr(args, "tolerance", None)
     max_nodes = getattr(args, "max_nodes", None)
-    # the study's first mesh, its sizes divided by --refine
-    result = api.run(model, dataclasses.replace(FIRST_MESH, refinement=refine), element,
-                     tolerance=DEFAULT_TOLERANCE if tolerance is None else tolerance,
-                     max_nodes=DEFAULT_MAX_NODES if max_nodes is None else max_nodes)
-    write_outputs(result, out_dir, f_rsi_min=f_rsi_min, isotherm_step=isotherm_step,
-                  dimension_system=model.dimension_system, stop=stop)
-    print(summary(result, out_dir))
+    result = api.run(model, None, element, refine=refine,
+                     tolerance=api.DEFAULT_TOLERANCE if tolerance is None else tolerance,
+                     max_nodes=api.DEFAULT_MAX_NODES if max_nodes is None else max_nodes)
+    api.write_outputs(result, out_dir, f_rsi_min=f_rsi_min, isotherm_step=isotherm_step,
+                      stop=stop)
+    print(api.summary(result, out_dir))
     for warning in result.warnings:
         print(f"warning: {warning}", file=sys.stderr)
     return out_dir
@@ -156,7 +108,6 @@ def check_out_folder(out_dir: Path) -> None:
 
 
 def command_run(args, stop=None) -> int:
-    from .outputs import fresh_folder
     if not args.refine > 0:
         raise BridgecalcError(f"--refine must be a positive number, got {args.refine:g}")
     if args.tolerance is not None and not (args.tolerance > 0 and args.tolerance < 1):
@@ -165,33 +116,28 @@ def command_run(args, stop=None) -> int:
     if args.max_nodes is not None and args.max_nodes < 100:
         raise BridgecalcError(f"--max-nodes must be a whole number of at least 100, "
                               f"got {args.max_nodes}")
-    from . import api
     source = Path(args.model)
     if not source.exists():
         raise BridgecalcError(f"{source}: no such file")
     model = api.load(source, args.assignments)
-    out_dir = Path(args.out) if args.out else fresh_folder(Path.cwd() / source.stem)
+    out_dir = Path(args.out) if args.out else api.fresh_folder(Path.cwd() / source.stem)
     check_out_folder(out_dir)
     _run_and_write(model, out_dir, args.element, args.refine, args, stop)
     return 0
 
 
 def command_demo(args, stop=None) -> int:
-    from .outputs import REPORT_FILE, fresh_folder
-    from . import api
     model = api.demo_model()
-    out_dir = Path(args.out) if args.out else fresh_folder(Path.cwd() / "bridgecalc-demo")
+    out_dir = Path(args.out) if args.out else api.fresh_folder(Path.cwd() / "bridgecalc-demo")
     check_out_folder(out_dir)
     _run_and_write(model, out_dir, args=args, stop=stop)
-    print(f"report: {out_dir / REPORT_FILE}")
+    print(f"report: {out_dir / api.report_file()}")
     return 0
 
 
 def command_check(args, stop=None) -> int:
-    from . import api
-    from .validation import format_table
     rows = api.check()
-    print(format_table(rows))
+    print(api.format_checks(rows))
     return 0 if all(r.passed for r in rows) else 1
 
 
@@ -199,25 +145,19 @@ def command_sweep(args, stop=None) -> int:
     """Exit 0 if every variant was computed, 1 if some failed."""
     import time
 
-    from .readers import script as scripts
-    from . import sweep as sweeps
-    from .outputs import fresh_folder
     source = Path(args.script)
-    if source.suffix != ".py":
-        raise BridgecalcError(f"{source}: sweep needs a geometry script (.py)")
-    module = scripts.load_module(source)
-    vary = sweeps.parse_vary(module, args.vary, source)
-    fixed = scripts.parse_assignments(module, args.assignments, source)
+    vary, fixed = api.sweep_plan(source, args.vary, args.assignments)
     if args.workers is not None and args.workers < 1:
         raise BridgecalcError(f"--workers must be at least 1, got {args.workers}")
-    out_dir = Path(args.out) if args.out else fresh_folder(Path.cwd() / f"{source.stem}-sweep")
+    out_dir = Path(args.out) if args.out else api.fresh_folder(Path.cwd()
+                                                               / f"{source.stem}-sweep")
     if out_dir.exists() and not out_dir.is_dir():
         raise BridgecalcError(f"--out {out_dir}: exists and is not a folder")
     start = time.perf_counter()
-    rows = sweeps.sweep(source, vary, workers=args.workers, scheduler=args.scheduler,
-                        base_params=fixed, progress=True)
-    sweeps.write_sweep(rows, out_dir, source, vary, fixed, stop=stop)
-    print(sweeps.summary(rows, out_dir, time.perf_counter() - start))
+    rows = api.sweep(source, vary, fixed, workers=args.workers, scheduler=args.scheduler,
+                     progress=True)
+    api.write_sweep(rows, out_dir, source, vary, fixed, stop=stop)
+    print(api.sweep_summary(rows, out_dir, time.perf_counter() - start))
     return 0 if all(r.ok for r in rows) else 1
 
 
@@ -226,10 +166,9 @@ def main(argv=None) -> int:
     import signal
     import threading
 
-    from .outputs import StopRequest
     args = _parser().parse_args(argv)
     # SIGTERM as SystemExit, so a run being written removes its staging folder
-    stop = StopRequest()
+    stop = api.stop_request()
     previous = None
     if threading.current_thread() is threading.main_thread():
         previous = signal.signal(signal.SIGTERM, stop)

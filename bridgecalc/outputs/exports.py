@@ -8,9 +8,15 @@
     names sorted alphabetically; the report lists each with its index),
     ``region_index`` (index into the model's regions),
     ``conductivity`` [W/(m·K)] and ``heat_flux_density`` (qx, qy, 0) [W/m²]
-    of the heat-flow case.
+    of the heat-flow case; and per environment ``g_<name>`` [-], its unit
+    solution of the surface-temperature case (the temperature weighting
+    factor field: θ = Σ g_j θ_j).
 ``results.csv``
-    one header line and one row of the headline numbers.
+    one header line and one row of the headline numbers; with more than two
+    temperatures the two-temperature columns (θi, θe, L2D, Ψ, fRsi) are empty.
+``couplings.csv``
+    one row per pair of environments: L_ij, its estimated error, Σ U·l and
+    Ψ_ij where flanking elements name the pair.
 """
 
 from __future__ import annotations
@@ -24,6 +30,7 @@ from ..results import f_rsi_verdict, heat_flux_density
 
 VTU_FILE = "field.vtu"
 CSV_FILE = "results.csv"
+COUPLINGS_FILE = "couplings.csv"
 
 CSV_COLUMNS = (
     "name", "length_unit", "dimension_system", "element", "nodes", "triangles",
@@ -62,6 +69,7 @@ def vtu_mesh(result):
                                                      dtype=float),
             "temperature_surface_temperature_case": np.asarray(
                 result.surface_temperature_case.field.nodal, dtype=float),
+            **weighting_factor_fields(result),
         },
         cell_data={
             "material_index": [region_material[mesh.region]],
@@ -70,6 +78,16 @@ def vtu_mesh(result):
             "heat_flux_density": [np.column_stack([q, np.zeros(len(q))])],
         },
     )
+
+
+def weighting_factor_fields(result) -> dict:
+    """``g_<environment>`` [-] at the nodes: each environment's unit solution of
+    the surface-temperature case (none when the result carries no unit cases)."""
+    cases = getattr(result, "cases", None)
+    if cases is None:
+        return {}
+    return {f"g_{e.name}": np.asarray(u.nodal, dtype=float)
+            for e, u in zip(result.model.environments, cases.surface.unit)}
 
 
 def write_vtu(result, path) -> None:
@@ -95,7 +113,9 @@ def headline_row(result, f_rsi_min=None, dimension_system=None, version="") -> d
     data = result.to_dict()
     hf, st = data["heat_flow_case"], data["surface_temperature_case"]
     convergence = data.get("convergence")
-    verdict = f_rsi_verdict(st["f_rsi"], f_rsi_min, data.get("warnings")) or ""
+    verdict = f_rsi_verdict(st.get("f_rsi"), f_rsi_min, data.get("warnings")) or ""
+    temperatures = data.get("temperatures", {})
+    two = "coupling_coefficient" in hf
     row = {
         "name": data["name"] or "",
         "length_unit": data["length_unit"],
@@ -103,15 +123,16 @@ def headline_row(result, f_rsi_min=None, dimension_system=None, version="") -> d
         "element": data["mesh"]["element"],
         "nodes": data["mesh"]["nodes"],
         "triangles": data["mesh"]["triangles"],
-        "theta_i_C": data["temperatures"]["interior"],
-        "theta_e_C": data["temperatures"]["exterior"],
-        "coupling_coefficient_W_per_mK": hf["coupling_coefficient"],
-        "sum_ul_W_per_mK": sum(f["ul"] for f in hf["flanking"]) if hf["flanking"] else "",
+        "theta_i_C": temperatures.get("interior", ""),
+        "theta_e_C": temperatures.get("exterior", ""),
+        "coupling_coefficient_W_per_mK": hf.get("coupling_coefficient", ""),
+        "sum_ul_W_per_mK": (sum(f["ul"] for f in hf["flanking"])
+                            if hf["flanking"] and two else ""),
         "psi_W_per_mK": hf.get("psi", ""),
         "theta_si_min_C": st["theta_si_min"],
         "theta_si_min_x": st["theta_si_min_at"][0],
         "theta_si_min_y": st["theta_si_min_at"][1],
-        "f_rsi": st["f_rsi"],
+        "f_rsi": st.get("f_rsi", ""),
         "f_rsi_min": "" if f_rsi_min is None else f_rsi_min,
         "f_rsi_verdict": verdict,
         "heat_flow_balance": hf["balance"],
@@ -122,11 +143,40 @@ def headline_row(result, f_rsi_min=None, dimension_system=None, version="") -> d
     return row
 
 
-def csv_text(row: dict) -> str:
-    """Header and one row; floats in full precision (repr), so the text is deterministic."""
+COUPLING_COLUMNS = (
+    "environment_i", "environment_j", "coupling_coefficient_W_per_mK",
+    "error_estimate_W_per_mK", "sum_ul_W_per_mK", "psi_W_per_mK", "dimension_system",
+)
+
+
+def coupling_rows(result, dimension_system=None) -> list[dict]:
+    """couplings.csv: one row per pair of environments (see the module docstring)."""
+    data = result.to_dict()
+    convergence = data.get("convergence") or {}
+    errors = {tuple(c["between"]): c.get("error_estimate")
+              for c in convergence.get("coupling_coefficients", [])}
+    rows = []
+    for c in data["heat_flow_case"]["coupling_coefficients"]:
+        error = errors.get(tuple(c["between"]))
+        rows.append({
+            "environment_i": c["between"][0], "environment_j": c["between"][1],
+            "coupling_coefficient_W_per_mK": c["value"],
+            "error_estimate_W_per_mK": "" if error is None else error,
+            "sum_ul_W_per_mK": (sum(f["ul"] for f in c["flanking"]) if "psi" in c else ""),
+            "psi_W_per_mK": c.get("psi", ""),
+            "dimension_system": dimension_system or "not stated",
+        })
+    return rows
+
+
+def csv_text(rows, columns=CSV_COLUMNS) -> str:
+    """Header and the rows (one dict, or a list of them); floats in full
+    precision (repr), so the text is deterministic."""
+    rows = [rows] if isinstance(rows, dict) else rows
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\n")
-    writer.writerow(CSV_COLUMNS)
-    writer.writerow([repr(row[c]) if isinstance(row[c], float) else row[c]
-                     for c in CSV_COLUMNS])
+    writer.writerow(columns)
+    for row in rows:
+        writer.writerow([repr(row[c]) if isinstance(row[c], float) else row[c]
+                         for c in columns])
     return buffer.getvalue()

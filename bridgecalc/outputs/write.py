@@ -44,7 +44,8 @@ def check_options(f_rsi_min=None, isotherm_step=None, model=None) -> None:
         [-]
     isotherm_step : float, optional
         [K]; with ``model``, it must give at most
-        :data:`bridgecalc.outputs.figures.MAX_ISOTHERMS` isotherms between θe and θi.
+        :data:`bridgecalc.outputs.figures.MAX_ISOTHERMS` isotherms between the lowest
+        and the highest environment temperature (θe and θi with two).
     model : Model, optional
 
     Raises
@@ -63,14 +64,16 @@ def check_options(f_rsi_min=None, isotherm_step=None, model=None) -> None:
             raise BridgecalcError(f"--isotherm-step must be a positive number of kelvin, "
                                   f"got {isotherm_step!r}")
         if model is not None:
+            from ..model.rules import temperature_levels
             from .figures import MAX_ISOTHERMS
-            from ..results import design_temperatures
-            theta_i, theta_e = design_temperatures(model)
-            span = abs(theta_i - theta_e)
+            levels = temperature_levels(model)
+            span = levels[-1] - levels[0]
+            between = ("θe and θi" if len(levels) == 2
+                       else "the lowest and the highest environment temperature")
             if span / isotherm_step > MAX_ISOTHERMS:
                 raise BridgecalcError(
                     f"--isotherm-step {isotherm_step:g} K would draw "
-                    f"{span / isotherm_step:.3g} isotherms between θe and θi; give a step of "
+                    f"{span / isotherm_step:.3g} isotherms between {between}; give a step of "
                     f"at least {span / MAX_ISOTHERMS:.3g} K (at most {MAX_ISOTHERMS} isotherms)")
 
 
@@ -167,7 +170,8 @@ class OtherFilesJob:
         self.dimension_system = dimension_system
 
     def write_exports(self):
-        """field.vtu and results.csv; the stamp; the PDF libraries loaded. Returns the stamp."""
+        """field.vtu, results.csv (and couplings.csv with more than one pair of
+        environments); the stamp; the PDF libraries loaded. Returns the stamp."""
         from ..validation import stamp as stamps
         from . import exports
         result, staging = self.result, self.staging
@@ -176,6 +180,10 @@ class OtherFilesJob:
         (staging / exports.CSV_FILE).write_text(
             exports.csv_text(exports.headline_row(result, self.f_rsi_min, system,
                                                   __version__)), encoding="utf-8")
+        if several_pairs(result):
+            (staging / exports.COUPLINGS_FILE).write_text(
+                exports.csv_text(exports.coupling_rows(result, system),
+                                 exports.COUPLING_COLUMNS), encoding="utf-8")
         if self.stamp is None:
             self.stamp = stamps.current_stamp()
         report_pdf.prepare()
@@ -250,6 +258,8 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
             sizes = {n: figure_size(n, result) for n in names}
             files = [RESULTS_FILE, exports.CSV_FILE, exports.VTU_FILE, REPORT_FILE,
                      REPORT_PDF_FILE] + [f"{n}.{fmt}" for n in names for fmt in FORMATS]
+            if several_pairs(result):
+                files.insert(2, exports.COUPLINGS_FILE)
             pages = helper.submit("lay_out_report", pngs, sizes, files)
             draw_figures(result, staging, isotherm_step, f_rsi_min, workers)
             exports_written.result()
@@ -258,3 +268,8 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
             (staging / REPORT_FILE).write_text(render_html(content), encoding="utf-8")
             figures_in.result()
     return out_dir
+
+
+def several_pairs(result) -> bool:
+    """Whether the result has more than one pair of environments (couplings.csv)."""
+    return len(result.heat_flow_case.coupling_coefficients) > 1

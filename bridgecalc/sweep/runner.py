@@ -65,11 +65,16 @@ def run_variant(script: str, index: int, params: dict,
         return VariantResult(index, full, f"failed: {exc}")
     except Exception as exc:        # a bug or a library failure: report it, go on
         return VariantResult(index, full, f"failed: {type(exc).__name__}: {exc}")
+    pairs = result.coupling_coefficients
     return VariantResult(
         index, full, "ok", psi=result.psi,
         coupling_coefficient=result.coupling_coefficient,
         theta_si_min=result.theta_si_min, f_rsi=result.f_rsi,
-        convergence=_convergence_status(result), mesh_nodes=result.mesh.node_count)
+        convergence=_convergence_status(result), mesh_nodes=result.mesh.node_count,
+        couplings=tuple((c.between, c.value, c.psi) for c in pairs) if len(pairs) > 1 else (),
+        weighting_factors=(tuple(result.weighting_factors.items())
+                           if result.f_rsi is None else ()),
+        dimension_system=result.model.dimension_system)
 
 
 def _single_threaded_worker(parent: int):

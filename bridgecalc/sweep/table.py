@@ -11,7 +11,6 @@ import textwrap
 from pathlib import Path
 
 from ..outputs import staged_folder
-from ..readers import script as scripts
 from .variants import CAUTION, CSV_FILE, FIGURE_FILE, NOTES_FILE, RESULT_COLUMNS, VariantResult
 
 
@@ -29,19 +28,29 @@ def csv_text(rows: list[VariantResult]) -> str:
     """sweep.csv: one row per variant, every parameter, the results.
 
     Columns: ``variant``, every script parameter (in the script's order),
-    then :data:`RESULT_COLUMNS`. Empty cells for values not computed.
+    then :data:`RESULT_COLUMNS`; with more than one pair of environments,
+    ``L[i|j]`` and ``psi[i|j]`` per pair, and with more than two temperatures
+    ``g[j]`` at θsi,min per environment. Empty cells for values not computed.
     Floats are written in full (``repr``), so the file is the same for the
     same input.
     """
     names = list(dict.fromkeys(n for r in rows for n in r.params))
+    pairs = list(dict.fromkeys(pair for r in rows for pair, _, _ in r.couplings))
+    environments = list(dict.fromkeys(name for r in rows for name, _ in r.weighting_factors))
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\n")
-    writer.writerow(["variant", *names, *RESULT_COLUMNS])
+    writer.writerow(["variant", *names, *RESULT_COLUMNS,
+                     *(f"{what}[{a}|{b}] [W/(m·K)]" for a, b in pairs for what in ("L", "psi")),
+                     *(f"g[{name}] at theta_si_min [-]" for name in environments)])
     for r in rows:
+        couplings = {pair: (value, psi) for pair, value, psi in r.couplings}
+        weights = dict(r.weighting_factors)
         writer.writerow([r.index, *(_cell(r.params.get(n)) for n in names),
                          _cell(r.psi), _cell(r.coupling_coefficient),
                          _cell(r.theta_si_min), _cell(r.f_rsi), r.status,
-                         r.convergence, _cell(r.mesh_nodes)])
+                         r.convergence, _cell(r.mesh_nodes),
+                         *(_cell(v) for p in pairs for v in couplings.get(p, (None, None))),
+                         *(_cell(weights.get(name)) for name in environments)])
     return buffer.getvalue()
 
 
@@ -65,18 +74,18 @@ def sweep_figure(rows: list[VariantResult], varied: list[str], title: str = ""):
 
     One column of panels per varied parameter (Ψ above, fRsi below); each
     combination of the other varied parameters is one line. Without flanking
-    elements L2D is plotted instead of Ψ. Failed variants leave gaps.
+    elements L2D is plotted instead of Ψ. With more than two temperatures,
+    one row per pair of environments (Ψ_ij, or L_ij) and θsi,min below.
+    Failed variants leave gaps.
     """
     from ..outputs import figures           # the house style; Agg backend
     plt = figures.plt
     ok = [r for r in rows if r.ok]
-    use_psi = any(r.psi is not None for r in ok)
-    quantities = ((("psi", "Ψ [W/(m·K)]") if use_psi
-                   else ("coupling_coefficient", "L2D [W/(m·K)]")),
-                  ("f_rsi", "fRsi [-]"))
+    quantities = _plotted(ok)
     with plt.rc_context(figures.STYLE):
         width = max(figures.PAGE_WIDTH, 2.6 * len(varied))
-        fig, axes = plt.subplots(2, len(varied), figsize=(width, 5.6), squeeze=False,
+        fig, axes = plt.subplots(len(quantities), len(varied),
+                                 figsize=(width, 2.8 * len(quantities)), squeeze=False,
                                  layout="constrained")
         if title:
             fig.suptitle(title, x=0.01, ha="left", fontsize=9.5, fontweight="bold")
@@ -86,11 +95,11 @@ def sweep_figure(rows: list[VariantResult], varied: list[str], title: str = ""):
             groups: dict[tuple, list[VariantResult]] = {}
             for r in rows:
                 groups.setdefault(tuple(r.params[n] for n in others), []).append(r)
-            for row_ax, (attribute, axis_label) in enumerate(quantities):
+            for row_ax, (value_of, axis_label) in enumerate(quantities):
                 ax = axes[row_ax][col]
                 for k, (key, members) in enumerate(groups.items()):
                     members = sorted(members, key=lambda m: x_of[m.params[name]])
-                    values = [getattr(m, attribute) for m in members]
+                    values = [value_of(m) for m in members]
                     # line styles and markers as well as colours: readable in grey
                     ax.plot([x_of[m.params[name]] for m in members],
                             [math.nan if v is None else v for v in values],
@@ -106,13 +115,34 @@ def sweep_figure(rows: list[VariantResult], varied: list[str], title: str = ""):
                     ax.text(0.5, 0.5, "no variant computed", transform=ax.transAxes,
                             ha="center", va="center")
             if 1 < len(groups) <= MAX_LEGEND_LINES:
-                axes[1][col].legend(title=", ".join(others), fontsize=6, title_fontsize=6,
+                axes[-1][col].legend(title=", ".join(others), fontsize=6, title_fontsize=6,
                                     loc="upper center", bbox_to_anchor=(0.5, -0.3),
                                     ncols=2 if len(groups) > 4 else 1)
             elif len(groups) > MAX_LEGEND_LINES:
                 axes[0][col].set_title(f"{len(groups)} lines, one per combination of "
                                        f"{', '.join(others)}", fontsize=6.5, loc="left")
     return fig
+
+
+def _plotted(ok: list[VariantResult]) -> list:
+    """(value of a row, axis label) of each row of panels."""
+    if any(r.couplings for r in ok) and not any(r.coupling_coefficient is not None for r in ok):
+        pairs = list(dict.fromkeys(pair for r in ok for pair, _, _ in r.couplings))
+        use_psi = {pair: any(p == pair and psi is not None for r in ok
+                             for p, _, psi in r.couplings) for pair in pairs}
+
+        def getter(pair, index):
+            return lambda m: next((c[index] for c in m.couplings if c[0] == pair), None)
+
+        rows = [(getter(pair, 2 if use_psi[pair] else 1),
+                 f"{'Ψ' if use_psi[pair] else 'L'} {pair[0]}–{pair[1]} [W/(m·K)]")
+                for pair in pairs]
+        return rows + [(lambda m: m.theta_si_min, "θsi,min [°C]")]
+    if any(r.psi is not None for r in ok):
+        first = (lambda m: m.psi, "Ψ [W/(m·K)]")
+    else:
+        first = (lambda m: m.coupling_coefficient, "L2D [W/(m·K)]")
+    return [first, (lambda m: m.f_rsi, "fRsi [-]")]
 
 
 def notes_text(rows: list[VariantResult], vary: dict, script: str,
@@ -129,7 +159,9 @@ def notes_text(rows: list[VariantResult], vary: dict, script: str,
     for name, value in (base_params or {}).items():
         lines.append(f"fixed    {name}: {_cell(value)}")
     lines.append("other parameters: the script's defaults (every value is in sweep.csv)")
-    lines.append(f"dimension system for Ψ: {dimension_system or 'not stated by the script'}")
+    stated = dimension_system or next((r.dimension_system for r in rows if r.dimension_system),
+                                      None)
+    lines.append(f"dimension system for Ψ: {stated or 'not stated by the model'}")
     lines += ["",
               "Columns of sweep.csv:",
               "  psi                   linear thermal transmittance Ψ [W/(m·K)] = L2D − Σ U·l",
@@ -139,6 +171,10 @@ def notes_text(rows: list[VariantResult], vary: dict, script: str,
               "  status                ok, or failed: <reason>",
               "  convergence           single mesh, or the outcome of a mesh-refinement study",
               "  mesh_nodes            nodes of the mesh used",
+              *(["  L[i|j], psi[i|j]      coupling coefficient L_ij and Ψ_ij of each pair of "
+                 "environments [W/(m·K)]"] if any(r.couplings for r in rows) else []),
+              *(["  g[j] at theta_si_min  temperature weighting factors at θsi,min [-] "
+                 "(in place of fRsi)"] if any(r.weighting_factors for r in rows) else []),
               "",
               "Ψ values depend on the dimension system; compare or combine only values "
               "in the same system.",
@@ -159,7 +195,7 @@ def write_sweep(rows: list[VariantResult], out_dir, script, vary: dict | None = 
     rows : list of VariantResult
     out_dir : str or Path
     script : str or Path
-        The swept geometry script (its ``DIMENSION_SYSTEM`` is noted).
+        The swept geometry script.
     vary : dict, optional
         The varied values (default: taken from ``rows``, parameters that
         take more than one value).
@@ -173,7 +209,6 @@ def write_sweep(rows: list[VariantResult], out_dir, script, vary: dict | None = 
     Path
     """
     from ..outputs import figures
-    module = scripts.load_module(script)
     if vary is None:
         names = list(rows[0].params) if rows else []
         vary = {n: list(dict.fromkeys(r.params[n] for r in rows)) for n in names}
@@ -187,8 +222,7 @@ def write_sweep(rows: list[VariantResult], out_dir, script, vary: dict | None = 
         finally:
             figures.plt.close(fig)
         (staging / NOTES_FILE).write_text(
-            notes_text(rows, vary, str(script), base_params,
-                       getattr(module, "DIMENSION_SYSTEM", None)), encoding="utf-8")
+            notes_text(rows, vary, str(script), base_params), encoding="utf-8")
     return out_dir
 
 

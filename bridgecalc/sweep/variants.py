@@ -52,6 +52,13 @@ class VariantResult:
         ``"criterion met"`` or ``"criterion not met"``; empty for a failure.
     mesh_nodes : int or None
         Nodes of the (final) mesh.
+    couplings : tuple of ((str, str), float, float or None)
+        With more than one pair of environments: each pair, its L_ij and
+        Ψ_ij [W/(m·K)] (None without flanking elements naming it).
+    weighting_factors : tuple of (str, float)
+        With more than two temperatures: g_j at θsi,min [-] per environment.
+    dimension_system : str or None
+        The model's.
     """
 
     index: int
@@ -63,6 +70,9 @@ class VariantResult:
     f_rsi: float | None = None
     convergence: str = ""
     mesh_nodes: int | None = None
+    couplings: tuple = ()
+    weighting_factors: tuple = ()
+    dimension_system: str | None = None
 
     @property
     def ok(self) -> bool:

@@ -134,12 +134,15 @@ def test_regions_are_listed_as_drawn(demo):
     assert many.rows[0][2] == "polygon of 20 corners within (0, 0) – (19, 4)"
 
 
-def test_dimension_system_from_the_name_or_not_stated(demo):
+def test_dimension_system_from_the_model_or_not_stated(demo):
+    """The model's dimension_system (model format 1, addition F); never guessed
+    from its name."""
     system, note = report.content.stated_dimension_system(demo.model)
-    assert system == "external" and "in its name" in note
+    assert system == "external" and "its dimension_system" in note
     import dataclasses
-    unnamed = dataclasses.replace(demo.model, name="a detail")
-    system, note = report.content.stated_dimension_system(unnamed)
+    unstated = dataclasses.replace(demo.model, dimension_system=None)
+    assert "external dimensions" in unstated.name
+    system, note = report.content.stated_dimension_system(unstated)
     assert system is None and note.startswith("not stated")
 
 

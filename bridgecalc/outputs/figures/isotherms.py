@@ -6,7 +6,7 @@ import math
 
 import numpy as np
 
-from ...results import design_temperatures
+from ...model.rules import temperature_levels
 from .layout import nice_step
 from .style import INK
 
@@ -31,9 +31,10 @@ def _multiples(lo: float, hi: float, step: float) -> np.ndarray:
 
 
 def default_isotherm_step(model) -> float:
-    """1, 2 or 5 × 10ⁿ K near a tenth of θi − θe [K]."""
-    theta_i, theta_e = design_temperatures(model)
-    return nice_step(abs(theta_i - theta_e) / 10)
+    """1, 2 or 5 × 10ⁿ K near a tenth of the span of the environment
+    temperatures (θi − θe with two) [K]."""
+    levels = temperature_levels(model)
+    return nice_step((levels[-1] - levels[0]) / 10)
 
 
 def bar_ticks(lo, hi, step):

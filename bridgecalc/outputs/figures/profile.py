@@ -5,7 +5,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from ...results import design_temperatures, interior_surface_profiles
+from ...model.rules import two_temperature_sides
+from ...results import interior_surface_profiles
 from .catalogue import MARGIN_LEFT, MARGIN_TOP, PAGE_WIDTH, PROFILE_BOTTOM, PROFILE_HEIGHT
 from .layout import header
 from .style import ADIABATIC, INK, INTERIOR, MUTED, PAPER, STYLE, VOID, plt
@@ -18,7 +19,9 @@ def surface_temperature_figure(result, f_rsi_min=None):
     ----------
     result : bridgecalc.results.Result
     f_rsi_min : float, optional
-        The user's criterion fRsi,min [-]; drawn as θe + fRsi,min (θi − θe).
+        The user's criterion fRsi,min [-]; drawn as θe + fRsi,min (θi − θe)
+        when the environments hold two temperatures. With more, fRsi gives
+        way to the weighting factors, named at θsi,min.
 
     Returns
     -------
@@ -26,7 +29,7 @@ def surface_temperature_figure(result, f_rsi_min=None):
     """
     model = result.model
     case = result.surface_temperature_case
-    theta_i, theta_e = design_temperatures(model)
+    sides = two_temperature_sides(model)
     profiles = interior_surface_profiles(model, case.field)
     unit = model.length_unit
     total = sum(float(p.arc_length[-1]) for p in profiles)
@@ -61,11 +64,16 @@ def surface_temperature_figure(result, f_rsi_min=None):
         # θsi,min where the result says it is
         s_min = _arc_position(profiles, case.theta_si_min_at, gap)
         if s_min is not None:
+            factor = (f"fRsi = {case.f_rsi:.3f}" if case.f_rsi is not None else
+                      "g: " + ", ".join(f"{name} {g:.3f}"
+                                        for name, g in case.weighting_factors.items()))
             ax.plot([s_min], [case.theta_si_min], marker="o", ms=7, mfc="white", mec=INK,
                     mew=1.4, ls="none", zorder=5, gid="theta-si-min-marker",
-                    label=f"θsi,min = {case.theta_si_min:.2f} °C, fRsi = {case.f_rsi:.3f}")
-        span_theta = theta_i - theta_e
-        if f_rsi_min is not None:
+                    label=f"θsi,min = {case.theta_si_min:.2f} °C, {factor}")
+        if sides is not None:
+            theta_i, theta_e = sides
+            span_theta = theta_i - theta_e
+        if f_rsi_min is not None and sides is not None:
             theta_crit = theta_e + f_rsi_min * span_theta
             ax.axhline(theta_crit, color=INK, lw=1.0, ls=(0, (6, 2, 1, 2)),
                        gid="f-rsi-criterion",
@@ -78,11 +86,12 @@ def surface_temperature_figure(result, f_rsi_min=None):
         ax.set_ylim(lowest - pad, top + pad)
         ax.set_xlabel(f"distance along the interior surface [{unit}]")
         ax.set_ylabel("θsi [°C]")
-        right = ax.secondary_yaxis("right", functions=(
-            lambda t: (t - theta_e) / span_theta, lambda f: theta_e + f * span_theta))
-        right.set_ylabel("temperature factor fRsi [-]")
-        right.tick_params(labelsize=7, length=3, width=0.5)
-        ax.spines["right"].set_visible(True)
+        if sides is not None:
+            right = ax.secondary_yaxis("right", functions=(
+                lambda t: (t - theta_e) / span_theta, lambda f: theta_e + f * span_theta))
+            right.set_ylabel("temperature factor fRsi [-]")
+            right.tick_params(labelsize=7, length=3, width=0.5)
+            ax.spines["right"].set_visible(True)
         ax.grid(axis="y", color=VOID, lw=0.6)
         ax.tick_params(length=3, width=0.5)
         # the legend right under the axis title

@@ -20,7 +20,8 @@ from matplotlib.patches import Patch, Polygon
 from .catalogue import legend_rows, material_codes, padded_extent, view
 from .edges import chained_path, material_edges, segments_path
 from .layout import frame, legend, new_figure, outline_detail
-from .style import ADIABATIC, EXTERIOR, INK, INTERIOR, MUTED, STYLE, material_colours, plt
+from .style import (ADIABATIC, EXTERIOR, INK, INTERIOR, MUTED, STYLE, UNHEATED,
+                    material_colours, plt)
 
 
 def materials_figure(result, detail=False):
@@ -113,18 +114,20 @@ def mesh_figure(result):
 
 
 def _outline_segments(result):
-    """Outline edges [length_unit] grouped as interior, exterior, adiabatic."""
+    """Outline edges [length_unit] grouped as interior, unheated, exterior, adiabatic."""
     model, mesh = result.model, result.mesh
     xy = mesh.nodes / model.metres_per_unit
     kinds = np.array([model.environment(s.environment).kind for s in model.surfaces] + [""])
     kind = np.where(mesh.boundary_surface >= 0, kinds[mesh.boundary_surface], "adiabatic")
     seg = xy[mesh.boundary_edges]
-    return {k: seg[kind == k] for k in ("interior", "exterior", "adiabatic")}
+    return {k: seg[kind == k] for k in ("interior", "unheated", "exterior", "adiabatic")}
 
 
 OUTLINE_STYLE = MappingProxyType({
     "interior": MappingProxyType(dict(colors=INTERIOR, linewidths=2.2, linestyles="solid")),
     "exterior": MappingProxyType(dict(colors=EXTERIOR, linewidths=2.2, linestyles=(0, (4, 2)))),
+    "unheated": MappingProxyType(dict(colors=UNHEATED, linewidths=2.2,
+                                      linestyles=(0, (5, 1.5, 1, 1.5)))),
     "adiabatic": MappingProxyType(dict(colors=ADIABATIC, linewidths=1.4, linestyles=(0, (1, 1.5)))),
 })
 
@@ -132,6 +135,7 @@ OUTLINE_STYLE = MappingProxyType({
 OUTLINE_LABEL = MappingProxyType({
     "interior": "interior surface",
     "exterior": "exterior surface",
+    "unheated": "surface of an unheated space",
     "adiabatic": "adiabatic\n(cut-off or symmetry plane)",
 })
 

@@ -32,6 +32,7 @@ PAPER = "#ffffff"
 VOID = "#eceae4"         # background outside the solid
 INTERIOR = "#9c3d1f"     # interior surfaces (solid line)
 EXTERIOR = "#245a7a"     # exterior surfaces (dashed line)
+UNHEATED = "#7d6424"     # surfaces of unheated spaces (dash-dotted line)
 ADIABATIC = "#7a7a7a"    # cut-off and symmetry planes (dotted line)
 HATCHES = ("", "////", "....", "\\\\\\\\", "xxx", "---", "|||", "ooo", "+++", "**")
 

@@ -8,7 +8,8 @@ import matplotlib.tri as mtri
 import numpy as np
 from matplotlib.text import Text
 
-from ...results import design_temperatures, printed_position
+from ...model.rules import temperature_levels, two_temperature_sides
+from ...results import printed_position
 from .catalogue import material_codes, view
 from .edges import material_edges, segments_path
 from .isotherms import (MAX_ISOTHERMS, bar_ticks, default_isotherm_step, isotherm_levels,
@@ -39,7 +40,7 @@ def temperature_figure(result, isotherm_step=None, detail=False):
     xy = mesh.nodes / model.metres_per_unit
     theta = case.field.nodal
     triangulation = mtri.Triangulation(xy[:, 0], xy[:, 1], mesh.triangles)
-    theta_i, theta_e = design_temperatures(model)
+    levels = temperature_levels(model)
     lo, hi = float(theta.min()), float(theta.max())
     asked = isotherm_step or default_isotherm_step(model)
     lines, step = isotherm_levels(lo, hi, asked)
@@ -48,13 +49,13 @@ def temperature_figure(result, isotherm_step=None, detail=False):
         fig, ax, aspect = new_figure(
             result, model.name or "junction",
             ("Temperature at the junction (detail)" if detail else "Temperature")
-            + f", surface-temperature case (θi = {theta_i:g} °C, θe = {theta_e:g} °C); "
+            + f", surface-temperature case ({environments_text(model)}); "
             f"isotherms every {step:g} K"
             + (f" (not {asked:g} K: at most {MAX_ISOTHERMS} lines)" if step != asked else ""),
             extent, panel_at_edge=True)
         frame(ax, result, extent)
-        vmin = min(theta_i, theta_e, lo)
-        vmax = max(theta_i, theta_e, hi)
+        vmin = min(levels[0], lo)
+        vmax = max(levels[-1], hi)
         # Linear interpolation in each triangle: for P1 it is the computed
         # field itself, sampled at the image's pixels.
         gx, gy, px, py, cells = pixel_grid(fig, ax, extent, triangulation)
@@ -159,3 +160,12 @@ def _mark_minimum(ax, result, extent, grid):
     label.set_horizontalalignment("left" if dx > 0 else "right")
     label.set_verticalalignment("bottom" if dy > 0 else "top")
     return box
+
+
+def environments_text(model) -> str:
+    """The temperatures a figure shows, in words: θi and θe with two, each
+    environment's otherwise."""
+    sides = two_temperature_sides(model)
+    if sides is not None:
+        return f"θi = {sides[0]:g} °C, θe = {sides[1]:g} °C"
+    return ", ".join(f"{e.name} {e.temperature:g} °C" for e in model.environments)

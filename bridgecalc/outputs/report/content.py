@@ -11,14 +11,14 @@ recomputes physics.
 from __future__ import annotations
 
 import hashlib
-import math
-import re
 from pathlib import Path
 from types import MappingProxyType
 
 from ... import __version__
 from ...results import CAUTION, f_rsi_verdict, printed_position
+from . import couplings
 from .blocks import Figure, Heading, KeyFigures, Para, Report, Table
+from .numbers import g_text as _g, n_text as _n, point_text as _point
 
 
 FIGURE_CAPTIONS = MappingProxyType({
@@ -42,17 +42,15 @@ FIGURE_CAPTIONS = MappingProxyType({
 })
 
 
-DIMENSION_NAMES = ("overall internal", "internal", "external")
-
-
 def stated_dimension_system(model, stated: str | None = None) -> tuple[str | None, str]:
     """The dimension system for Ψ and where it was stated.
 
     Parameters
     ----------
     model : Model
+        Its ``dimension_system``, when set, is the answer.
     stated : str, optional
-        What the caller knows, e.g. a geometry script's ``DIMENSION_SYSTEM``.
+        What the caller knows of a model that states none.
 
     Returns
     -------
@@ -60,31 +58,14 @@ def stated_dimension_system(model, stated: str | None = None) -> tuple[str | Non
         The system ("external", "internal", "overall internal") or None, and a
         sentence saying how it is known.
     """
+    if model.dimension_system:
+        return model.dimension_system, (f"as stated by the model: {model.dimension_system} "
+                                        f"dimensions (its dimension_system)")
     if stated:
-        return stated, f"as stated by the model: {stated} dimensions (geometry script)"
-    name = model.name or ""
-    for system in DIMENSION_NAMES:
-        if re.search(rf"\b{system} dimensions\b", name, flags=re.IGNORECASE):
-            return system, f"as stated by the model: {system} dimensions (in its name)"
+        return stated, f"as stated for this run: {stated} dimensions"
     return None, ("not stated by the model. Ψ depends on the dimension system used for the "
                   "flanking lengths (ISO 14683 names external, overall internal and internal); "
                   "state it wherever this Ψ is used")
-
-
-def _n(value, digits=4) -> str:
-    """A number for tables: fixed decimals, minus sign as in print."""
-    if value is None or (isinstance(value, float) and not math.isfinite(value)):
-        return "–"
-    text = f"{value:.{digits}f}"
-    return text.replace("-", "−")
-
-
-def _g(value) -> str:
-    return f"{value:g}".replace("-", "−")
-
-
-def _point(p) -> str:
-    return "(" + ", ".join(_g(c) for c in p) + ")"
 
 
 def model_fingerprint(model) -> str:
@@ -219,7 +200,7 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
     model = result.model
     unit = data["length_unit"]
     hf, st = data["heat_flow_case"], data["surface_temperature_case"]
-    theta_i, theta_e = data["temperatures"]["interior"], data["temperatures"]["exterior"]
+    several = couplings.several_couplings(data)
     system, system_note = stated_dimension_system(model, dimension_system)
     title = data["name"] or "Junction"
     subtitle = (f"Two-dimensional steady conduction to ISO 10211 · bridgecalc {__version__} · "
@@ -229,19 +210,28 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
     # -- summary
     blocks.append(Heading(2, "Result", "result"))
     key = KeyFigures()
-    key.items.append(("L2D", _n(hf["coupling_coefficient"]), "W/(m·K)",
-                      "thermal coupling coefficient"))
+    if "coupling_coefficient" in hf:
+        key.items.append(("L2D", _n(hf["coupling_coefficient"]), "W/(m·K)",
+                          "thermal coupling coefficient"))
     if "psi" in hf:
         key.items.append(("Ψ", _n(hf["psi"]), "W/(m·K)",
                           f"{system} dimensions" if system else "dimension system not stated"))
+    if several:
+        couplings.key_figures(key, data, system)
     at_text = printed_position(model, st["theta_si_min_at"]).replace("-", "−")
     key.items.append(("θsi,min", _n(st["theta_si_min"], 2), "°C",
                       f"at {at_text} {unit}"))
     warnings = data.get("warnings", [])
-    verdict = f_rsi_verdict(st["f_rsi"], f_rsi_min, warnings)
-    key.items.append(("fRsi", _n(st["f_rsi"], 3), "",
-                      "no criterion given" if verdict is None else
-                      f"{verdict} fRsi ≥ {_g(f_rsi_min)}"))
+    verdict = f_rsi_verdict(st.get("f_rsi"), f_rsi_min, warnings)
+    if "f_rsi" in st:
+        key.items.append(("fRsi", _n(st["f_rsi"], 3), "",
+                          "no criterion given" if verdict is None else
+                          f"{verdict} fRsi ≥ {_g(f_rsi_min)}"))
+    else:
+        key.items.append((f"g {st['theta_si_min_environment']}",
+                          _n(st["temperature_weighting_factors"][
+                              st["theta_si_min_environment"]], 3), "",
+                          "weighting factors at θsi,min: " + couplings.weighting_factor_note(data)))
     blocks.append(key)
     for warning in warnings:
         blocks.append(Para(f"Warning: {warning}. These numbers must not be used as they "
@@ -262,6 +252,8 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
             f"conditions it is at risk of mould growth or surface condensation. Do not "
             f"accept the detail as it is; revise it or have it assessed by a qualified "
             f"practitioner.", "fail"))
+    elif verdict == "not assessed" and "f_rsi" not in st:
+        blocks.append(couplings.no_f_rsi_verdict(f_rsi_min))
     elif verdict == "not assessed":
         blocks.append(Para(
             f"NOT ASSESSED against the criterion given for this run (fRsi ≥ {_g(f_rsi_min)}): "
@@ -291,9 +283,15 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
 
     # -- inputs
     blocks.append(Heading(2, "Inputs", "inputs"))
+    if "temperatures" in data:
+        theta_i, theta_e = data["temperatures"]["interior"], data["temperatures"]["exterior"]
+        temperatures = (f"Interior {_g(theta_i)} °C, exterior {_g(theta_e)} °C "
+                        f"(θi − θe = {_g(theta_i - theta_e)} K)")
+    else:
+        temperatures = "Environments at " + ", ".join(
+            f"{e.name} {_g(e.temperature)} °C" for e in model.environments)
     blocks.append(Para(
-        f"Lengths in {unit}. Interior {_g(theta_i)} °C, exterior {_g(theta_e)} °C "
-        f"(θi − θe = {_g(theta_i - theta_e)} K). Model origin: {model.origin}.", "normal"))
+        f"Lengths in {unit}. {temperatures}. Model origin: {model.origin}.", "normal"))
     names_sorted = sorted(model.materials)
     used = {}
     for r in model.regions:
@@ -333,6 +331,7 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
         (1.0, 1.4, 1.1, 1.4, 1.6, 3.2, 1.2)))
     if hf["flanking"]:
         rows = []
+        named = any("between" in f for f in hf["flanking"])
         for f_model, f in zip(model.flanking, hf["flanking"]):
             if f_model.u_value is not None:
                 how = "given"
@@ -343,26 +342,36 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
                 how = ("ISO 6946 plane layers: " + layers
                        + (f"; Rsi {_g(rs[0])}, Rse {_g(rs[1])} m²·K/W" if rs else
                           "; default surface resistances"))
-            rows.append([f["name"], _n(f["u_value"]), how, _g(f["length"]), _n(f["ul"])])
+            rows.append([f["name"], _n(f["u_value"]), how, _g(f["length"]), _n(f["ul"])]
+                        + ([couplings.pair_text(f["between"]) if "between" in f else "–"]
+                           if named else []))
         blocks.append(Table(
             ["flanking element", "U [W/(m²·K)]", "how U was obtained", f"l [{unit}]",
-             "U·l [W/(m·K)]"], rows,
-            f"Flanking elements for Ψ = L2D − Σ U·l; lengths in the dimension system: "
-            f"{system or 'not stated'}.", (1, 3, 4), (1.8, 1.1, 4.6, 1.0, 1.2)))
+             "U·l [W/(m·K)]"] + (["between"] if named else []), rows,
+            f"Flanking elements for Ψ = L − Σ U·l; lengths in the dimension system: "
+            f"{system or 'not stated'}.", (1, 3, 4),
+            (1.8, 1.1, 4.6, 1.0, 1.2) + ((1.8,) if named else ())))
     else:
         blocks.append(Para("No flanking elements: Ψ is not computed, only L2D.", "note"))
 
     # -- results in detail
     blocks.append(Heading(2, "Results in detail", "details"))
-    rows = [["L2D, thermal coupling coefficient", _n(hf["coupling_coefficient"]), "W/(m·K)"]]
-    if hf["flanking"]:
+    if several:
+        blocks.append(couplings.coupling_table(data))
+        blocks.append(couplings.weighting_table(data, model.environments))
+    rows = []
+    if "coupling_coefficient" in hf:
+        rows.append(["L2D, thermal coupling coefficient", _n(hf["coupling_coefficient"]),
+                     "W/(m·K)"])
+    if hf["flanking"] and "psi" in hf:
         rows.append(["Σ U·l of the flanking elements", _n(sum(f["ul"] for f in hf["flanking"])),
                      "W/(m·K)"])
     if "psi" in hf:
         rows.append(["Ψ, linear thermal transmittance", _n(hf["psi"]), "W/(m·K)"])
     rows.append(["θsi,min, lowest interior surface temperature", _n(st["theta_si_min"], 2),
                  f"°C at {at_text} {unit}{where_text}"])
-    rows.append(["fRsi = (θsi,min − θe)/(θi − θe)", _n(st["f_rsi"], 3), "–"])
+    if "f_rsi" in st:
+        rows.append(["fRsi = (θsi,min − θe)/(θi − θe)", _n(st["f_rsi"], 3), "–"])
     if f_rsi_min is not None:
         rows.append(["fRsi criterion given for this run", _g(f_rsi_min),
                      {"meets": "meets", "fails": "FAILS"}.get(verdict, "NOT ASSESSED")])
@@ -383,14 +392,18 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
     # -- convergence
     blocks.append(Heading(2, "Mesh refinement", "convergence"))
     if convergence:
-        rows = []
-        for k, level in enumerate(convergence.get("levels", [])):
-            rows.append([str(k + 1), str(level.get("nodes", "")), str(level.get("triangles", "")),
-                         _n(level.get("heat_flow")), _n(level.get("coupling_coefficient")),
-                         _n(level.get("psi")), _n(level.get("theta_si_min"), 3)])
-        blocks.append(Table(["level", "nodes", "triangles", "heat flow [W/m]", "L2D [W/(m·K)]",
-                             "Ψ [W/(m·K)]", "θsi,min [°C]"], rows,
-                            "Mesh refinement study.", (0, 1, 2, 3, 4, 5, 6)))
+        if "coupling_coefficient" in hf:
+            rows = []
+            for k, level in enumerate(convergence.get("levels", [])):
+                rows.append([str(k + 1), str(level.get("nodes", "")),
+                             str(level.get("triangles", "")), _n(level.get("heat_flow")),
+                             _n(level.get("coupling_coefficient")), _n(level.get("psi")),
+                             _n(level.get("theta_si_min"), 3)])
+            blocks.append(Table(["level", "nodes", "triangles", "heat flow [W/m]",
+                                 "L2D [W/(m·K)]", "Ψ [W/(m·K)]", "θsi,min [°C]"], rows,
+                                "Mesh refinement study.", (0, 1, 2, 3, 4, 5, 6)))
+        else:
+            blocks.append(couplings.convergence_table(convergence))
         change = convergence.get("iso_doubling_change")
         lines = []
         if convergence.get("method"):
@@ -430,7 +443,9 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
     blocks.append(Heading(2, "Figures", "figures"))
     for k, name in enumerate(figures or {}):
         caption = FIGURE_CAPTIONS.get(name, name)
-        if name == "surface_temperature":
+        if name == "surface_temperature" and "f_rsi" not in st:
+            caption = caption.replace("; the right axis reads it as a temperature factor", "")
+        elif name == "surface_temperature":
             caption += (f" The dash-dot line is the criterion fRsi = {_g(f_rsi_min)} given for "
                         f"this run." if f_rsi_min is not None else
                         " No criterion was given, so none is drawn.")

@@ -1,0 +1,47 @@
+"""The one-screen summary of a run, as the command line prints it."""
+
+from __future__ import annotations
+
+from ..results import printed_position
+
+
+def run_summary(result, out_dir) -> str:
+    """The one-screen table printed after a run: the numbers, the convergence
+    study in words, where the files are, and the caution."""
+    hf, st = result.heat_flow_case, result.surface_temperature_case
+    model = result.model
+    unit = model.length_unit
+    lines = [f"{model.name or model.origin}",
+             f"  mesh               {result.mesh.node_count} nodes, "
+             f"{result.mesh.triangle_count} triangles, {result.element}"]
+    if model.dimension_system:
+        lines.append(f"  dimensions         {model.dimension_system} (flanking lengths, Ψ)")
+    for name, flow in hf.heat_flow.items():
+        lines.append(f"  heat flow {name:<9}{flow:12.4f} W/m")
+    lines.append(f"  balance            {hf.balance:12.1e}")
+    if hf.coupling_coefficient is not None:
+        lines.append(f"  L2D                {hf.coupling_coefficient:12.4f} W/(m·K)")
+    if len(hf.coupling_coefficients) > 1:
+        for c in hf.coupling_coefficients:
+            pair = f"{c.between[0]}–{c.between[1]}"
+            psi = "" if c.psi is None else f"   Ψ {c.psi:9.4f} W/(m·K)"
+            lines.append(f"  L {pair[:16]:<16}{c.value:12.4f} W/(m·K){psi}")
+    for f in hf.flanking:
+        lines.append(f"  U·l {f.name[:14]:<15}{f.ul:12.4f} W/(m·K)")
+    if hf.psi is not None:
+        lines.append(f"  Ψ                  {hf.psi:12.4f} W/(m·K)")
+    at = printed_position(model, st.theta_si_min_at)
+    lines.append(f"  θsi,min            {st.theta_si_min:12.2f} °C at {at} {unit}")
+    if st.f_rsi is not None:
+        lines.append(f"  fRsi               {st.f_rsi:12.3f}")
+    else:
+        weights = ", ".join(f"{name} {g:.3f}" for name, g in st.weighting_factors.items())
+        lines.append(f"  g at θsi,min       {weights} ({st.theta_si_min_environment}'s surface)")
+    for name, value in st.probes.items():
+        lines.append(f"  probe {name:<13}{value:12.2f} °C (surface-temperature case)")
+    if getattr(result, "convergence", None) is not None:
+        lines.extend("  " + line for line in result.convergence.summary_lines())
+    lines.append(f"  written to {out_dir}")
+    lines.append("  Results support, and do not replace, a qualified practitioner's judgement;")
+    lines.append("  inputs and criteria must follow the codes in force where the building stands.")
+    return "\n".join(lines)
