@@ -19,8 +19,8 @@ from .model import (AirLayer, Environment, Flanking, Layer, Material, Model, Pro
                     Surface)
 from .results import Result  # noqa: E402
 
-__all__ = [
+__all__ = (
     "BridgecalcError", "ModelError", "AirLayer", "Environment", "Flanking", "Layer",
     "Material", "Model", "Probe", "Region", "Surface", "Result", "load", "run",
     "__version__",
-]
+)

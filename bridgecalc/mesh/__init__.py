@@ -9,4 +9,4 @@ from .build import build_mesh, region_polygons
 from .refinement import refine
 from .types import Mesh, MeshOptions
 
-__all__ = ["Mesh", "MeshOptions", "build_mesh", "refine", "region_polygons"]
+__all__ = ("Mesh", "MeshOptions", "build_mesh", "refine", "region_polygons")

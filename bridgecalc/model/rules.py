@@ -15,9 +15,9 @@ from . import geometry
 from .checker import (Checker, describe, fmt, fmt_point, is_real, is_sequence,
                       material_where)
 from .outline import outline_edges, region_shapes, solid_pieces
-from .types import (ABSOLUTE_ZERO, DIMENSION_SYSTEMS, ENVIRONMENT_KINDS, FORMAT, LENGTH_UNITS, AirLayer,
-                    Environment, Flanking, Layer, Material, Model, Probe, Region, Surface,
-                    air_layer_material)
+from .types import (ABSOLUTE_ZERO, DIMENSION_SYSTEMS, ENVIRONMENT_KINDS, FORMAT, LENGTH_UNITS,
+                    AirLayer, Environment, Flanking, Layer, Material, Model, Probe, Region,
+                    Surface, air_layer_material)
 from ..physics import iso6946
 
 def check_air_layer(check: Checker, layer, where: str):
@@ -69,10 +69,9 @@ def validate(model: Model) -> None:
     check.string(model.name, "name", optional=True)
     check.string(model.dimension_system, "dimension_system", optional=True)
     if model.dimension_system is not None and model.dimension_system not in DIMENSION_SYSTEMS:
+        systems = ", ".join(repr(d) for d in DIMENSION_SYSTEMS)
         check.fail("dimension_system", f"unknown dimension system {model.dimension_system!r}; "
-                                        f"use one of "
-                                        f"{', '.join(repr(d) for d in DIMENSION_SYSTEMS)} "
-                                        f"(ISO 14683)")
+                                       f"use one of {systems} (ISO 14683)")
     for table, noun in (("regions", "Region"), ("environments", "Environment"),
                         ("surfaces", "Surface"), ("flanking", "Flanking"), ("probes", "Probe")):
         value = getattr(model, table)

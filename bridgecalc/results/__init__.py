@@ -16,10 +16,10 @@ from .result import BALANCE_LIMIT, RESULTS_FORMAT, Result, build_result
 from .surface import (CAUTION, SurfaceTemperatureCase, design_temperatures, f_rsi_verdict,
                       printed_position, surface_temperature_case, temperature_factor)
 
-__all__ = ["BALANCE_LIMIT", "CAUTION", "Coupling", "FlankingResult", "HeatFlowCase",
+__all__ = ("BALANCE_LIMIT", "CAUTION", "Coupling", "FlankingResult", "HeatFlowCase",
            "RESULTS_FORMAT", "Result", "SurfaceProfile", "SurfaceTemperatureCase",
            "build_result", "coupling_coefficient", "design_temperatures", "f_rsi_verdict",
            "flanking_results", "flanking_sums", "flanking_u_value", "heat_flow_case",
            "heat_flux_density", "interior_surface_profiles", "linear_thermal_transmittance",
            "printed_position", "probe_temperatures", "surface_temperature_case",
-           "temperature_factor"]
+           "temperature_factor")

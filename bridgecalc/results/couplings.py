@@ -16,7 +16,7 @@ import numpy as np
 
 from ..model import Model
 from ..solve.cases import UnitCases
-from ..study.convergence import (ConvergenceStudy, given_heat_flows, heat_flow_balance,
+from ..study.levels import (ConvergenceStudy, given_heat_flows, heat_flow_balance,
                                  interior_side, pair_name, pairs_of)
 from .flanking import FlankingResult, flanking_results, flanking_sums, pair_key
 

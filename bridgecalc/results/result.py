@@ -12,7 +12,7 @@ from ..mesh import Mesh
 from ..model import Model
 from ..model.rules import two_temperature_sides
 from ..solve.cases import UnitCases
-from ..study.convergence import ConvergenceStudy
+from ..study.levels import ConvergenceStudy
 from .couplings import HeatFlowCase, heat_flow_case
 from .surface import SurfaceTemperatureCase, surface_temperature_case
 

@@ -19,7 +19,7 @@ from ..errors import ModelError
 from ..model import Model, geometry
 from ..model.rules import two_temperature_sides
 from ..solve.cases import UnitCases
-from ..study.convergence import interior_surfaces
+from ..study.levels import interior_surfaces
 from .couplings import probe_temperatures
 
 CAUTION = (

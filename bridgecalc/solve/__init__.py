@@ -7,4 +7,4 @@ environment (``cases``).
 
 from .problem import Condition, ConductionProblem, TemperatureField
 
-__all__ = ["Condition", "ConductionProblem", "TemperatureField"]
+__all__ = ("Condition", "ConductionProblem", "TemperatureField")

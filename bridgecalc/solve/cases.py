@@ -215,11 +215,14 @@ def _solve_set(model: Model, problem: ConductionProblem, resistances,
     return CaseSet(tuple(resistances), unit, source_field, flow_matrix, source_flows)
 
 
-def conditions(model: Model, surface_temperature: bool = False) -> list:
-    """The boundary condition of every surface at the model's temperatures:
-    its environment's temperature and its resistance for heat flow (or, with
-    ``surface_temperature``, for surface temperature)."""
-    temperatures = {e.name: e.temperature for e in model.environments}
+def conditions(model: Model, surface_temperature: bool = False,
+               temperatures: dict | None = None) -> list:
+    """The boundary condition of every surface: its environment's temperature
+    [°C] (the model's, or ``temperatures`` by environment name) and its
+    resistance for heat flow (or, with ``surface_temperature``, for surface
+    temperature) [m²·K/W]."""
+    if temperatures is None:
+        temperatures = {e.name: e.temperature for e in model.environments}
     return [Condition(temperatures[s.environment],
                       s.resistance_for_surface_temperature if surface_temperature
                       else s.resistance)

@@ -60,40 +60,30 @@ check errs on the safe side.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
 
 import numpy as np
 
 from ..errors import ModelError
 from ..mesh import Mesh, MeshOptions, build_mesh, refine
 from ..model import Model
-from ..model.rules import two_temperature_sides
-from ..solve import Condition
-from ..solve.cases import UnitCases, solve_cases
+from ..solve.cases import UnitCases, conditions, solve_cases
 from . import indicators
 from .extrapolation import (OSCILLATION_FACTOR, ORDER_RANGE, ROUND_OFF, SAFETY_FACTOR,
                             UNCONFIRMED_FACTOR, Extrapolation, coupling_from_energies,
                             extrapolate)
+from .levels import (COUPLING_FLOOR, ISO_DOUBLING_LIMIT, PSI_FLOOR, ConvergenceStudy, Level,
+                     StudyOutcome, cut_energy, interior_side, level_of, pair_name, pairs_of)
 
-__all__ = ["DEFAULT_MAX_NODES", "DEFAULT_TOLERANCE", "ELEMENT_RATE", "FIRST_MESH",
-           "ISO_DOUBLING_LIMIT", "ConvergenceStudy", "Extrapolation", "Level", "StudyOutcome",
-           "check_settings", "converge", "extrapolate", "OSCILLATION_FACTOR", "ORDER_RANGE",
-           "ROUND_OFF", "SAFETY_FACTOR", "UNCONFIRMED_FACTOR"]
+__all__ = ("COUPLING_FLOOR", "DEFAULT_MAX_NODES", "DEFAULT_TOLERANCE", "ELEMENT_RATE",
+           "FIRST_MESH", "ISO_DOUBLING_LIMIT", "PSI_FLOOR", "ConvergenceStudy", "Extrapolation",
+           "Level", "StudyOutcome", "check_settings", "converge", "extrapolate",
+           "OSCILLATION_FACTOR", "ORDER_RANGE", "ROUND_OFF", "SAFETY_FACTOR",
+           "UNCONFIRMED_FACTOR")
 
 #: Default target relative error of Ψ and L2D [-] (0.1 %).
 DEFAULT_TOLERANCE = 1e-3
 #: Default node budget of the study [-].
 DEFAULT_MAX_NODES = 250_000
-#: ISO 10211 doubling criterion on the heat flow [-].
-ISO_DOUBLING_LIMIT = 0.01
-#: Ψ tolerance floor, as a share of L [-]. At 0.01 the demo slab edge
-#: (Ψ ≈ −0.005 W/(m·K)) refined to 58k nodes for a 5e-6 W/(m·K) error; at
-#: 0.1 it stops at 9k nodes with 4e-5 W/(m·K) and the same Ψ to 5 digits.
-PSI_FLOOR = 0.1
-#: L_ij tolerance floor, as a share of the largest coupling coefficient of the
-#: model [-]: a coupling a hundred times smaller than the largest is resolved
-#: to tolerance × 1 % of the largest (the tool's own rule).
-COUPLING_FLOOR = 0.01
 #: Levels without a plausible order after which the study gives up.
 STALL_LEVELS = 3
 METHODS = ("adaptive", "uniform")
@@ -133,306 +123,6 @@ ELEMENT_RATE = {"P1": 1.0, "P2": 2.0}
 #: (closer for the parapet, window jamb and case 2), in 1.1–2.1× less time.
 FIRST_MESH = MeshOptions(cells_across_model=15.0, cells_across_part=1.0, corner_ratio=1.0,
                          surface_ratio=1.0, growth=0.5, thin_aspect=20.0)
-
-#: A pair of environments, by name, in model order.
-Pair = tuple[str, str]
-
-
-def pairs_of(model: Model) -> list[tuple[int, int]]:
-    """Index pairs (i, j), i < j, of every two environments, in model order."""
-    n = len(model.environments)
-    return [(i, j) for i in range(n) for j in range(i + 1, n)]
-
-
-def pair_name(model: Model, i: int, j: int) -> Pair:
-    """The names of environments i and j."""
-    return model.environments[i].name, model.environments[j].name
-
-
-def interior_side(model: Model) -> tuple[float, float, list[int]] | None:
-    """(θi, θe, indices of the environments at θi) of a model whose
-    environments hold two temperatures (:func:`bridgecalc.model.rules.two_temperature_sides`),
-    else None."""
-    sides = two_temperature_sides(model)
-    if sides is None:
-        return None
-    theta_i, theta_e = sides
-    return theta_i, theta_e, [k for k, e in enumerate(model.environments)
-                              if e.temperature == theta_i]
-
-
-def cut_energy(couplings: np.ndarray, members) -> float:
-    """E_c = Σ_{i∈c, j∉c} L_ij [W/(m·K)]: the heat flow out of the environments
-    ``members`` (indices) at 1 °C into the others at 0 °C."""
-    inside = np.zeros(len(couplings), dtype=bool)
-    inside[list(members)] = True
-    return float(couplings[np.ix_(inside, ~inside)].sum())
-
-
-def heat_flow_balance(heat_flow, generated: float = 0.0) -> float:
-    """|Σ heat flow + generated| / max |heat flow| [-]: zero for a conserved field.
-
-    Parameters
-    ----------
-    heat_flow : iterable of float
-        Heat flow into the model per environment [W/m].
-    generated : float
-        Heat generated inside the section [W/m].
-    """
-    values = np.array(list(heat_flow), dtype=float)
-    scale = max(np.abs(values).max(initial=0.0), abs(generated))
-    return float(abs(values.sum() + generated) / scale) if scale > 0 else 0.0
-
-
-def given_heat_flows(cases: UnitCases) -> np.ndarray:
-    """Heat flow into the model from each environment at the model's
-    temperatures [W/m] (heat-flow case, sources on)."""
-    return cases.temperatures @ cases.heat.flow_matrix + cases.heat.source_flows
-
-
-def interior_surfaces(model: Model) -> list[int]:
-    """Indices of the surfaces facing an interior environment."""
-    return [j for j, s in enumerate(model.surfaces)
-            if model.environment(s.environment).kind == "interior"]
-
-
-@dataclass
-class Level:
-    """One mesh of the study.
-
-    Attributes
-    ----------
-    nodes, triangles : int
-    heat_flow : float or None
-        Two temperatures: heat flow into the model from the interior side [W/m].
-    coupling_coefficient : float or None
-        Two temperatures: L2D [W/(m·K)].
-    psi : float or None
-        Ψ [W/(m·K)] of the two-temperature L2D, with flanking elements.
-    theta_si_min : float
-        [°C], surface-temperature case.
-    coupling_coefficients : dict of (str, str) to float
-        L_ij of every pair of environments [W/(m·K)].
-    heat_flows : dict of str to float
-        Heat flow into the model per environment at the model's temperatures [W/m].
-    """
-
-    nodes: int
-    triangles: int
-    heat_flow: float | None
-    coupling_coefficient: float | None
-    psi: float | None
-    theta_si_min: float
-    coupling_coefficients: dict = field(default_factory=dict)
-    heat_flows: dict = field(default_factory=dict)
-
-    def to_dict(self) -> dict:
-        return {"nodes": self.nodes, "triangles": self.triangles, "heat_flow": self.heat_flow,
-                "coupling_coefficient": self.coupling_coefficient, "psi": self.psi,
-                "theta_si_min": self.theta_si_min,
-                "coupling_coefficients": [{"between": list(pair), "value": value}
-                                          for pair, value in self.coupling_coefficients.items()]}
-
-
-def _finite(x):
-    return None if x is None or not math.isfinite(x) else x
-
-
-@dataclass
-class ConvergenceStudy:
-    """Everything the study found; ``to_dict`` is results.json's ``convergence``.
-
-    Attributes
-    ----------
-    psi, coupling_coefficient : Extrapolation or None
-        The two-temperature Ψ and L2D (None with more temperatures, or Ψ
-        without flanking elements).
-    couplings : dict of (str, str) to Extrapolation
-        L_ij of every pair [W/(m·K)].
-    pair_psi : dict of (str, str) to Extrapolation
-        Ψ_ij of the pairs that flanking elements name [W/(m·K)].
-    theta_si_min : Extrapolation or None
-        θsi,min [°C]; reported, not a stopping criterion.
-    """
-
-    method: str
-    element: str
-    tolerance: float
-    max_nodes: int
-    levels: list[Level] = field(default_factory=list)
-    psi: Extrapolation | None = None
-    coupling_coefficient: Extrapolation | None = None
-    couplings: dict = field(default_factory=dict)
-    pair_psi: dict = field(default_factory=dict)
-    theta_si_min: Extrapolation | None = None
-    iso_doubling_change: float | None = None
-    criterion_met: bool = False
-    stop_reason: str = ""
-
-    @property
-    def psi_extrapolated(self):
-        return None if self.psi is None else self.psi.value
-
-    @property
-    def psi_error_estimate(self):
-        return None if self.psi is None else self.psi.error_estimate
-
-    def _coupling_scale(self) -> float:
-        values = [abs(x.value) for x in self.couplings.values()]
-        if self.coupling_coefficient is not None:
-            values.append(abs(self.coupling_coefficient.value))
-        return COUPLING_FLOOR * max(values, default=0.0)
-
-    def controlled(self) -> list[tuple[str, object, Extrapolation, float]]:
-        """The quantities the study converges: (key, what, extrapolation, scale).
-
-        ``key`` is ``"coupling_coefficient"`` or ``"psi"`` for the
-        two-temperature L2D and Ψ, else ``("coupling", pair)`` or
-        ``("psi", pair)``; ``scale`` is what its error is relative to. A pair
-        of a model with exactly two environments is the L2D itself and is
-        not listed twice.
-        """
-        out = []
-        cc = self.coupling_coefficient
-        if cc is not None:
-            out.append(("coupling_coefficient", None, cc, abs(cc.value)))
-            if self.psi is not None:
-                out.append(("psi", None, self.psi,
-                            max(abs(self.psi.value), PSI_FLOOR * abs(cc.value))))
-        if cc is None or len(self.couplings) > 1:
-            floor = self._coupling_scale()
-            for pair, x in self.couplings.items():
-                out.append(("coupling", pair, x, max(abs(x.value), floor)))
-        for pair, x in self.pair_psi.items():
-            if cc is not None and len(self.couplings) == 1:
-                continue                               # the same as the headline Ψ
-            scale = max(abs(x.value), PSI_FLOOR * abs(self.couplings[pair].value))
-            out.append(("psi", pair, x, scale))
-        return out
-
-    def relative_errors(self) -> dict:
-        """Estimated relative errors [-] of the controlled quantities, keyed
-        ``"coupling_coefficient"``, ``"psi"`` (two temperatures) and
-        ``"coupling_coefficient a|b"``, ``"psi a|b"`` (pairs)."""
-        out = {}
-        for key, pair, x, scale in self.controlled():
-            name = key if pair is None else f"{'psi' if key == 'psi' else 'coupling_coefficient'}" \
-                                            f" {pair[0]}|{pair[1]}"
-            out[name] = x.error_estimate / scale if scale else math.inf
-        return out
-
-    @staticmethod
-    def label(key: str) -> str:
-        """A :meth:`relative_errors` key in words: L2D, Ψ, L(a, b), Ψ(a, b)."""
-        what, _, pair = key.partition(" ")
-        symbol = {"coupling_coefficient": "L2D", "psi": "Ψ"}[what]
-        if not pair:
-            return symbol
-        a, b = pair.split("|")
-        return f"{'L' if symbol == 'L2D' else 'Ψ'}({a}, {b})"
-
-    def to_dict(self) -> dict:
-        rel = self.relative_errors()
-        cc = self.coupling_coefficient
-        out = {
-            "method": self.method,
-            "element": self.element,
-            "tolerance": self.tolerance,
-            "max_nodes": self.max_nodes,
-            "levels": [lv.to_dict() for lv in self.levels],
-            "observed_order": None if cc is None else cc.order,
-            "psi_extrapolated": self.psi_extrapolated,
-            "psi_error_estimate": _finite(self.psi_error_estimate),
-            "psi_relative_error_estimate": _finite(rel.get("psi")),
-            "coupling_coefficient_extrapolated": None if cc is None else cc.value,
-            "coupling_coefficient_error_estimate": None if cc is None
-            else _finite(cc.error_estimate),
-            "coupling_coefficient_relative_error_estimate": _finite(
-                rel.get("coupling_coefficient")),
-            "coupling_coefficients": [],
-            "iso_doubling_change": self.iso_doubling_change,
-            "iso_doubling_limit": ISO_DOUBLING_LIMIT,
-            "criterion_met": self.criterion_met,
-            "stop_reason": self.stop_reason,
-        }
-        floor = self._coupling_scale()
-        for pair, x in self.couplings.items():
-            entry = {"between": list(pair), "extrapolated": x.value,
-                     "error_estimate": _finite(x.error_estimate),
-                     "relative_error_estimate": _finite(
-                         x.error_estimate / max(abs(x.value), floor)
-                         if max(abs(x.value), floor) else math.inf),
-                     "observed_order": x.order}
-            if pair in self.pair_psi:
-                entry["psi_extrapolated"] = self.pair_psi[pair].value
-            out["coupling_coefficients"].append(entry)
-        if self.theta_si_min is not None:
-            out["theta_si_min_extrapolated"] = self.theta_si_min.value
-            out["theta_si_min_error_estimate"] = _finite(self.theta_si_min.error_estimate)
-        return out
-
-    def summary_lines(self) -> list[str]:
-        """Plain-words lines for the command-line summary and reports."""
-        rel = self.relative_errors()
-        lines = [f"convergence: {self.method} refinement, {len(self.levels)} meshes, "
-                 f"{self.levels[-1].nodes if self.levels else 0} nodes on the finest"]
-        order = sorted(rel, key=lambda k: (k.startswith("coupling_coefficient"), k))
-        for key in order:
-            if math.isfinite(rel[key]):
-                lines.append(f"  estimated relative error of {self.label(key)}: "
-                             f"{rel[key]:.2e} (target {self.tolerance:.1e})")
-        if self.iso_doubling_change is not None:
-            lines.append(f"  ISO 10211 doubling check: heat flow changed by "
-                         f"{100 * self.iso_doubling_change:.3f} % (limit 1 %)")
-        if self.criterion_met:
-            lines.append("  converged: the mesh-convergence criteria are met")
-        else:
-            lines.append("  NOT CONVERGED: " + self.stop_reason)
-        return lines
-
-
-@dataclass
-class StudyOutcome:
-    """What :func:`converge` returns: the finest level's cases and mesh, and the study."""
-
-    cases: UnitCases
-    mesh: Mesh
-    study: ConvergenceStudy
-
-
-def level_of(cases: UnitCases, side, flanking_ul: dict) -> tuple[Level, float]:
-    """The numbers of one level, and its heat-flow imbalance [-].
-
-    Parameters
-    ----------
-    cases : UnitCases
-    side : (θi, θe, interior indices) or None
-        :func:`interior_side` of the model.
-    flanking_ul : dict
-        Σ U·l [W/(m·K)] of the flanking elements, keyed None for the
-        two-temperature Ψ and by pair for Ψ_ij.
-    """
-    model = cases.model
-    couplings = cases.heat.couplings
-    flows = given_heat_flows(cases)
-    generated = cases.heat.source.generated if cases.heat.source is not None else 0.0
-    balance = heat_flow_balance(flows, generated)
-    heat_flow = l2d = psi = None
-    if side is not None:
-        theta_i, theta_e, inside = side
-        heat_flow = float(flows[inside].sum())
-        l2d = heat_flow / (theta_i - theta_e)
-        if None in flanking_ul:
-            psi = l2d - flanking_ul[None]
-    surface = cases.surface.field(cases.temperatures)
-    theta_min, _ = surface.minimum_on(interior_surfaces(model))
-    mesh = cases.problem.mesh
-    pairs = {pair_name(model, i, j): float(couplings[i, j]) for i, j in pairs_of(model)}
-    names = [e.name for e in model.environments]
-    level = Level(mesh.node_count, mesh.triangle_count, heat_flow, l2d, psi, float(theta_min),
-                  pairs, dict(zip(names, map(float, flows))))
-    return level, balance if math.isfinite(balance) else 0.0
-
 
 def converge(model: Model, mesh_options: MeshOptions | None, element: str, tolerance: float,
              max_nodes: int, method: str, flanking_ul: dict | None = None) -> StudyOutcome:
@@ -554,15 +244,12 @@ def _worst_indicators(cases: UnitCases, side, controlled) -> np.ndarray:
     heat-flow field (scaled to 1 K) for L2D and Ψ; for L_ij of a pair, the
     unit solutions u_i, u_j and u_i + u_j whose energies make it."""
     worst = max(controlled, key=lambda c: (c[2].error_estimate / c[3] if c[3] else math.inf))
-    key, pair, _, _ = worst
+    _, pair, _, _ = worst
     problem = cases.problem
-    resistances = cases.heat.resistances
     if pair is None:
         theta_i, theta_e, _ = side
         field_ = cases.heat.field(cases.temperatures)
-        temps = {e.name: e.temperature for e in cases.model.environments}
-        conditions = _conditions(cases.model, resistances, temps)
-        return indicators.energy_error_indicators(problem, field_, conditions) \
+        return indicators.energy_error_indicators(problem, field_, conditions(cases.model)) \
             / (theta_i - theta_e) ** 2
     names = cases.environments
     i, j = names.index(pair[0]), names.index(pair[1])
@@ -571,12 +258,8 @@ def _worst_indicators(cases: UnitCases, side, controlled) -> np.ndarray:
         field_ = cases.heat.combination(members)
         temps = {name: (1.0 if k in members else 0.0) for k, name in enumerate(names)}
         eta += indicators.energy_error_indicators(
-            problem, field_, _conditions(cases.model, resistances, temps))
+            problem, field_, conditions(cases.model, temperatures=temps))
     return eta
-
-
-def _conditions(model: Model, resistances, temperatures: dict):
-    return [Condition(temperatures[s.environment], r) for s, r in zip(model.surfaces, resistances)]
 
 
 def _doubling_change(levels, side, model: Model) -> float | None:

@@ -28,6 +28,6 @@ from .table import csv_text, notes_text, summary, sweep_figure, write_sweep
 from .variants import (CSV_FILE, FIGURE_FILE, NOTES_FILE, RESULT_COLUMNS, VariantResult,
                        parse_vary, variants)
 
-__all__ = ["CSV_FILE", "FIGURE_FILE", "NOTES_FILE", "RESULT_COLUMNS", "VariantResult",
+__all__ = ("CSV_FILE", "FIGURE_FILE", "NOTES_FILE", "RESULT_COLUMNS", "VariantResult",
            "csv_text", "default_workers", "notes_text", "parse_vary", "run_variant", "summary",
-           "sweep", "sweep_figure", "variants", "write_sweep"]
+           "sweep", "sweep_figure", "variants", "write_sweep")

@@ -116,8 +116,8 @@ def sweep_figure(rows: list[VariantResult], varied: list[str], title: str = ""):
                             ha="center", va="center")
             if 1 < len(groups) <= MAX_LEGEND_LINES:
                 axes[-1][col].legend(title=", ".join(others), fontsize=6, title_fontsize=6,
-                                    loc="upper center", bbox_to_anchor=(0.5, -0.3),
-                                    ncols=2 if len(groups) > 4 else 1)
+                                     loc="upper center", bbox_to_anchor=(0.5, -0.3),
+                                     ncols=2 if len(groups) > 4 else 1)
             elif len(groups) > MAX_LEGEND_LINES:
                 axes[0][col].set_title(f"{len(groups)} lines, one per combination of "
                                        f"{', '.join(others)}", fontsize=6.5, loc="left")

@@ -4,4 +4,4 @@
 
 from .cases import CheckRow, format_table, run_checks
 
-__all__ = ["CheckRow", "format_table", "run_checks"]
+__all__ = ("CheckRow", "format_table", "run_checks")

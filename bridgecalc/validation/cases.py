@@ -294,5 +294,5 @@ def format_table(rows) -> str:
     return "\n".join(lines)
 
 
-__all__ = ["CheckRow", "run_checks", "format_table", "fourier_rectangle", "case1_model",
-           "case2_model", "layers_model", "source_model"]
+__all__ = ("CheckRow", "run_checks", "format_table", "fourier_rectangle", "case1_model",
+           "case2_model", "layers_model", "source_model")
