@@ -87,3 +87,31 @@ def test_geometry_scripts_are_package_data():
     assert (folder / api.DEMO_SCRIPT).is_file()
     assert sorted(p.name for p in folder.glob("*.py") if p.name != "__init__.py") == sorted(
         p.name for p in (ROOT / "geometries").glob("*.py") if p.name != "__init__.py")
+
+
+def test_a_built_wheel_carries_the_package_and_its_junction_library(tmp_path):
+    """What `pip install .` installs (not editable): every subpackage and the
+    geometry scripts, so the demo loads from the installed package alone."""
+    import subprocess
+    import sys
+    import zipfile
+    built = subprocess.run([sys.executable, "-m", "pip", "wheel", "--no-deps", "-q", "-w",
+                            str(tmp_path / "dist"), str(ROOT)], capture_output=True, text=True)
+    assert built.returncode == 0, built.stderr
+    (wheel,) = (tmp_path / "dist").glob("bridgecalc-*.whl")
+    names = zipfile.ZipFile(wheel).namelist()
+    assert "bridgecalc/geometries/slab_edge.py" in names
+    assert "bridgecalc/outputs/figures/temperature.py" in names
+    assert all(n.startswith(("bridgecalc/", "bridgecalc-")) for n in names), names
+    unpacked = tmp_path / "site"
+    zipfile.ZipFile(wheel).extractall(unpacked)
+    probe = ("import sys; sys.path.insert(0, sys.argv[1]); import bridgecalc; "
+             "from bridgecalc import api; "
+             "assert bridgecalc.__file__.startswith(sys.argv[1]), bridgecalc.__file__; "
+             "folder = api.geometries_folder(); "
+             "assert str(folder).startswith(sys.argv[1]), folder; "
+             "print(api.demo_model().name)")
+    ran = subprocess.run([sys.executable, "-c", probe, str(unpacked)], capture_output=True,
+                         text=True, cwd=tmp_path)
+    assert ran.returncode == 0, ran.stderr
+    assert "Slab edge" in ran.stdout
