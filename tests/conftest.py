@@ -8,6 +8,7 @@ import numpy as np
 import pytest
 
 ROOT = Path(__file__).resolve().parent.parent
+
 GEOMETRIES = ROOT / "geometries"
 
 
@@ -52,3 +53,10 @@ def solve_level(model, mesh, element="P1"):
     cases = solve_cases(model, mesh, element)
     return (heat_flow_case(cases), cases.problem, cases.heat.field(cases.temperatures),
             conditions(model))
+
+
+@pytest.fixture(scope="module")
+def demo(geometries):
+    """The shipped demo junction's result, computed once per test module."""
+    from bridgecalc.api import load, run
+    return run(load(geometries / "slab_edge.py"))

@@ -15,7 +15,6 @@ from skfem import Basis, ElementTriP1, FacetBasis
 
 from bridgecalc.validation import cases as validation
 from bridgecalc.mesh import refinement
-from bridgecalc.study import indicators
 from bridgecalc.solve import linsolve
 from bridgecalc.errors import ModelError
 from bridgecalc.mesh import Mesh, build_mesh

@@ -311,7 +311,6 @@ def two_temperature_sides(model: Model) -> tuple[float, float] | None:
 
 
 def _check_surfaces(check: Checker, model: Model):
-    names = [env.name for env in model.environments]
     if not model.surfaces:
         check.fail("surfaces", "the model has no surfaces, so no heat can enter or leave "
                                "it; add [[surfaces]] tables")
@@ -319,11 +318,7 @@ def _check_surfaces(check: Checker, model: Model):
         where = f"surfaces[{i}]"
         if not isinstance(surf, Surface):
             check.fail(where, f"expected a Surface, got {describe(surf)}")
-        check.string(surf.environment, f"{where}.environment")
-        if surf.environment not in names:
-            check.fail(f"{where}.environment",
-                       f"environment {surf.environment!r} is not defined "
-                       f"(defined: {', '.join(names) or 'none'})")
+        _defined_environment(check, model, surf.environment, f"{where}.environment")
         check.number(surf.resistance, f"{where}.resistance", minimum=0.0)
         check.number(surf.resistance_surface_temperature,
                      f"{where}.resistance_surface_temperature", minimum=0.0, optional=True)
@@ -454,15 +449,21 @@ def _check_between(check: Checker, model: Model, between, where: str):
     if not is_sequence(between) or len(between) != 2:
         check.fail(where, f"expected the names of two environments, got {describe(between)}")
     for k, name in enumerate(between):
-        check.string(name, f"{where}[{k}]")
-        if name not in names:
-            hint = difflib.get_close_matches(name, names, n=1)
-            did_you_mean = f"; did you mean {hint[0]!r}?" if hint else ""
-            check.fail(f"{where}[{k}]", f"environment {name!r} is not defined (defined: "
-                                        f"{', '.join(names)}){did_you_mean}")
+        _defined_environment(check, model, name, f"{where}[{k}]")
     if between[0] == between[1]:
         check.fail(where, f"names {between[0]!r} twice; a flanking element separates two "
                           f"different environments")
+
+
+def _defined_environment(check: Checker, model: Model, name, where: str):
+    """``name`` names an environment of the model."""
+    check.string(name, where)
+    names = [env.name for env in model.environments]
+    if name not in names:
+        hint = difflib.get_close_matches(name, names, n=1)
+        did_you_mean = f"; did you mean {hint[0]!r}?" if hint else ""
+        check.fail(where, f"environment {name!r} is not defined (defined: "
+                          f"{', '.join(names) or 'none'}){did_you_mean}")
 
 
 def _check_probes(check: Checker, model: Model):

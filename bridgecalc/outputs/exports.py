@@ -149,24 +149,30 @@ COUPLING_COLUMNS = (
 )
 
 
-def coupling_rows(result, dimension_system=None) -> list[dict]:
-    """couplings.csv: one row per pair of environments (see the module docstring)."""
-    data = result.to_dict()
+def coupling_entries(data: dict) -> list[dict]:
+    """Per pair of environments, from results.json's content: ``between``,
+    ``value`` (L_ij), ``error`` (the study's estimate, or None), ``ul`` (Σ U·l)
+    and ``psi`` (None without flanking elements naming the pair), ``flanking``
+    (their names) [W/(m·K)]."""
     convergence = data.get("convergence") or {}
     errors = {tuple(c["between"]): c.get("error_estimate")
               for c in convergence.get("coupling_coefficients", [])}
-    rows = []
-    for c in data["heat_flow_case"]["coupling_coefficients"]:
-        error = errors.get(tuple(c["between"]))
-        rows.append({
-            "environment_i": c["between"][0], "environment_j": c["between"][1],
-            "coupling_coefficient_W_per_mK": c["value"],
-            "error_estimate_W_per_mK": "" if error is None else error,
-            "sum_ul_W_per_mK": (sum(f["ul"] for f in c["flanking"]) if "psi" in c else ""),
-            "psi_W_per_mK": c.get("psi", ""),
-            "dimension_system": dimension_system or "not stated",
-        })
-    return rows
+    return [{"between": tuple(c["between"]), "value": c["value"],
+             "error": errors.get(tuple(c["between"])),
+             "ul": sum(f["ul"] for f in c["flanking"]) if "psi" in c else None,
+             "psi": c.get("psi"), "flanking": [f["name"] for f in c.get("flanking", [])]}
+            for c in data["heat_flow_case"]["coupling_coefficients"]]
+
+
+def coupling_rows(result, dimension_system=None) -> list[dict]:
+    """couplings.csv: one row per pair of environments (see the module docstring)."""
+    return [{"environment_i": e["between"][0], "environment_j": e["between"][1],
+             "coupling_coefficient_W_per_mK": e["value"],
+             "error_estimate_W_per_mK": "" if e["error"] is None else e["error"],
+             "sum_ul_W_per_mK": "" if e["ul"] is None else e["ul"],
+             "psi_W_per_mK": "" if e["psi"] is None else e["psi"],
+             "dimension_system": dimension_system or "not stated"}
+            for e in coupling_entries(result.to_dict())]
 
 
 def csv_text(rows, columns=CSV_COLUMNS) -> str:

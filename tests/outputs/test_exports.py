@@ -14,7 +14,6 @@ import numpy as np
 import pytest
 
 from bridgecalc.outputs import exports
-from bridgecalc.api import load, run
 from bridgecalc.results import heat_flux_density, interior_surface_profiles
 
 # Demo wall (geometries/slab_edge.py defaults): clay masonry 240 mm, λ 0.7;
@@ -25,11 +24,6 @@ WALL = [(0.240, 0.7), (0.160, 0.035)]
 def u_plane(rsi, rse=0.04):
     """ISO 6946:2017, 6.7.1: U = 1/(Rsi + Σ d/λ + Rse) [W/(m²·K)]."""
     return 1.0 / (rsi + sum(d / k for d, k in WALL) + rse)
-
-
-@pytest.fixture(scope="module")
-def demo(geometries):
-    return run(load(geometries / "slab_edge.py"))
 
 
 def test_vtu_reads_back_as_the_solution(demo, tmp_path):

@@ -14,11 +14,6 @@ from bridgecalc.outputs.figures import files, raster
 from bridgecalc.api import load, run
 
 
-@pytest.fixture(scope="module")
-def demo(geometries):
-    return run(load(geometries / "slab_edge.py"))
-
-
 def _luminance(rgb):
     rgb = np.asarray(rgb)[..., :3]
     return rgb @ np.array([0.2126, 0.7152, 0.0722])

@@ -22,19 +22,11 @@ from bridgecalc.validation import stamp as stamps
 from bridgecalc.outputs import report
 from bridgecalc.api import load, run
 
+from hand_stamp import HAND_STAMP
+
 CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")
 PDFTOPPM = shutil.which("pdftoppm")
 PDFTOTEXT = shutil.which("pdftotext")
-
-HAND_STAMP = stamps.Stamp("0.1.0", "0123456789abcdef", "2024-01-02T03:04:05Z", 58, 0,
-                          [stamps.CaseSummary("iso10211-case2", "ISO 10211:2017 Annex C, case 2",
-                                              10, 0)])
-
-
-@pytest.fixture(scope="module")
-def demo(geometries):
-    return run(load(geometries / "slab_edge.py"))
-
 
 @pytest.fixture(scope="module")
 def written(demo, tmp_path_factory):

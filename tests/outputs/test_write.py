@@ -8,21 +8,11 @@ difference).
 
 import pytest
 
-from bridgecalc.validation import stamp as stamps
 from bridgecalc.cli import main
 from bridgecalc.errors import BridgecalcError
 from bridgecalc.outputs import workers, write
-from bridgecalc.api import load, run
 
-HAND_STAMP = stamps.Stamp("0.1.0", "0123456789abcdef", "2024-01-02T03:04:05Z", 58, 0,
-                          [stamps.CaseSummary("iso10211-case2", "ISO 10211:2017 Annex C, case 2",
-                                              10, 0)])
-
-
-@pytest.fixture(scope="module")
-def demo(geometries):
-    return run(load(geometries / "slab_edge.py"))
-
+from hand_stamp import HAND_STAMP
 
 @pytest.fixture(scope="module")
 def written(demo, tmp_path_factory):

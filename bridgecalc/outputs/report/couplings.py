@@ -8,6 +8,7 @@ Read from results.json's content; nothing here recomputes physics.
 
 from __future__ import annotations
 
+from ..exports import coupling_entries
 from .blocks import KeyFigures, Para, Table
 from .numbers import g_text, n_text
 
@@ -45,18 +46,10 @@ def weighting_factor_note(data: dict) -> str:
 
 def coupling_table(data: dict) -> Table:
     """Every L_ij with its estimated error, Σ U·l and Ψ_ij of the pairs named."""
-    convergence = data.get("convergence") or {}
-    errors = {tuple(c["between"]): c.get("error_estimate")
-              for c in convergence.get("coupling_coefficients", [])}
-    rows = []
-    for c in data["heat_flow_case"]["coupling_coefficients"]:
-        error = errors.get(tuple(c["between"]))
-        ul = sum(f["ul"] for f in c.get("flanking", []))
-        rows.append([pair_text(c["between"]), n_text(c["value"]),
-                     "–" if error is None else g_text(float(f"{error:.2g}")),
-                     n_text(ul) if "psi" in c else "–",
-                     n_text(c["psi"]) if "psi" in c else "–",
-                     ", ".join(f["name"] for f in c.get("flanking", [])) or "none"])
+    rows = [[pair_text(e["between"]), n_text(e["value"]),
+             "–" if e["error"] is None else g_text(float(f"{e['error']:.2g}")),
+             n_text(e["ul"]), n_text(e["psi"]), ", ".join(e["flanking"]) or "none"]
+            for e in coupling_entries(data)]
     return Table(["environments i–j", "L_ij [W/(m·K)]", "± estimate", "Σ U·l [W/(m·K)]",
                   "Ψ_ij [W/(m·K)]", "flanking elements"], rows,
                  "Coupling coefficients (ISO 10211): L_ij is the heat flow from i to j per "
