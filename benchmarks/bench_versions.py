@@ -1,8 +1,8 @@
 """This tree's `run` against an earlier revision's, on the shipped junctions.
 
 A yardstick for "no slower than before": both versions run each junction in
-their own process, alternating (this tree, then the other), `--repeat` times
-after one warm-up run each; the table gives the medians, their ratio, and Ψ
+their own process, four times each, alternating which goes first, `--repeat`
+times after one warm-up run each; the table gives the medians, their ratio, and Ψ
 from both (which must agree to the study's tolerance). The earlier revision
 is checked out with `git worktree` into a temporary folder and imported from
 there; nothing is installed.
@@ -72,9 +72,12 @@ def main(argv=None) -> int:
             ratios = []
             for name in args.junctions.split(","):
                 new_times, old_times = [], []
-                for _ in range(2):                   # alternate to share the load evenly
+                for k in range(4):                   # alternate, each first in turn
+                    if k % 2:
+                        earlier = measure(old, name, args.repeat)
                     new = measure(ROOT, name, args.repeat)
-                    earlier = measure(old, name, args.repeat)
+                    if not k % 2:
+                        earlier = measure(old, name, args.repeat)
                     new_times += new["times"]
                     old_times += earlier["times"]
                 t_new, t_old = statistics.median(new_times), statistics.median(old_times)

@@ -129,10 +129,9 @@ def surface_temperature_case(cases: UnitCases) -> SurfaceTemperatureCase:
                          f"environment, so there is no interior surface temperature")
     field_ = cases.surface.field(cases.temperatures)
     theta_min, where = field_.minimum_on(interior)
-    surface = _surface_at(field_, interior, where)
-    environment = model.surfaces[surface].environment
-    point = np.asarray(where, dtype=float)[None, :]
-    g = {e.name: float(u.at(point)[0]) for e, u in zip(model.environments, cases.surface.unit)}
+    edge, t = _edge_at(field_, interior, where)
+    environment = model.surfaces[int(field_.problem.mesh.boundary_surface[edge])].environment
+    g = {e.name: u.along_edge(edge, t) for e, u in zip(model.environments, cases.surface.unit)}
     sides = two_temperature_sides(model)
     f_rsi = None
     if sides is not None:
@@ -144,13 +143,15 @@ def surface_temperature_case(cases: UnitCases) -> SurfaceTemperatureCase:
                                   field_, environment, g)
 
 
-def _surface_at(field_, surfaces, where) -> int:
-    """The surface (of ``surfaces``) whose outline edge is nearest to ``where`` [m]."""
+def _edge_at(field_, surfaces, where) -> tuple[int, float]:
+    """The outline edge of ``surfaces`` nearest to ``where`` [m] (an index into
+    ``mesh.boundary_edges``) and the parameter t ∈ [0, 1] of the point along it."""
     mesh = field_.problem.mesh
-    mask = np.isin(mesh.boundary_surface, list(surfaces))
-    edges = mesh.boundary_edges[mask]
+    candidates = np.flatnonzero(np.isin(mesh.boundary_surface, list(surfaces)))
+    edges = mesh.boundary_edges[candidates]
     a, b = mesh.nodes[edges[:, 0]], mesh.nodes[edges[:, 1]]
     d = b - a
     t = np.clip(((where - a) * d).sum(axis=1) / np.maximum((d * d).sum(axis=1), 1e-300), 0, 1)
     distance = np.linalg.norm(a + t[:, None] * d - where, axis=1)
-    return int(mesh.boundary_surface[mask][int(np.argmin(distance))])
+    k = int(np.argmin(distance))
+    return int(candidates[k]), float(t[k])

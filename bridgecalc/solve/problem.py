@@ -78,6 +78,18 @@ class TemperatureField:
         """
         return self.problem.point_matrix(points) @ self.temperature
 
+    def along_edge(self, edge: int, t: float) -> float:
+        """Temperature [°C] at ``t`` ∈ [0, 1] along outline edge ``edge`` (an
+        index into ``mesh.boundary_edges``), exact for the element's polynomial:
+        linear (P1) or quadratic through the midpoint (P2)."""
+        a, b = self.problem.mesh.boundary_edges[edge]
+        first, last = self.temperature[a], self.temperature[b]
+        if self.problem.element == "P2":
+            middle = self.temperature[self.problem.edge_midpoint_dofs[edge]]
+            return float(first * (1 - t) * (1 - 2 * t) + 4 * middle * t * (1 - t)
+                         + last * t * (2 * t - 1))
+        return float(first * (1 - t) + last * t)
+
     def minimum_on(self, surfaces) -> tuple[float, np.ndarray]:
         """Lowest temperature on the outline edges of the given surfaces.
 

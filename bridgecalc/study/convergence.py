@@ -205,17 +205,26 @@ def converge(model: Model, mesh_options: MeshOptions | None, element: str, toler
                 + ("" if iso_ok else "; the ISO 10211 doubling check is not met"))
             break
         mesh = finer
+    # θsi,min is reported with an estimate; it does not decide when to stop
+    study.theta_si_min = extrapolate([lv.nodes for lv in study.levels],
+                                     [lv.theta_si_min for lv in study.levels],
+                                     ELEMENT_RATE[element], _noise(imbalance))
     return StudyOutcome(cases, mesh, study)
 
 
 def _extrapolate(study: ConvergenceStudy, model: Model, side, energies: dict,
                  flanking_ul: dict, imbalance: list) -> None:
-    """Every extrapolation of the study from its levels so far."""
+    """The controlled extrapolations of the study from its levels so far."""
     nodes = [lv.nodes for lv in study.levels]
     rate = ELEMENT_RATE[study.element]
-    noise = min(BALANCE_NOISE * max(imbalance[-3:]), NOISE_LIMIT)
-    fits = {members: extrapolate(nodes, values, rate, noise)
-            for members, values in energies.items()}
+    noise = _noise(imbalance)
+    fits: dict = {}
+
+    def energy(members):                      # fitted when first needed
+        if members not in fits:
+            fits[members] = extrapolate(nodes, energies[members], rate, noise)
+        return fits[members]
+
     study.couplings = {}
     study.pair_psi = {}
     for i, j in pairs_of(model):
@@ -223,7 +232,7 @@ def _extrapolate(study: ConvergenceStudy, model: Model, side, energies: dict,
         x = extrapolate(nodes, [lv.coupling_coefficients[pair] for lv in study.levels], rate,
                         noise)
         if not x.fitted:            # not regular on its own: from its monotone energies
-            x = coupling_from_energies(fits[(i,)], fits[(j,)], fits[(i, j)])
+            x = coupling_from_energies(energy((i,)), energy((j,)), energy((i, j)))
         study.couplings[pair] = x
         if pair in flanking_ul:
             study.pair_psi[pair] = Extrapolation(x.value - flanking_ul[pair], x.error_estimate,
@@ -234,8 +243,12 @@ def _extrapolate(study: ConvergenceStudy, model: Model, side, energies: dict,
         if None in flanking_ul:
             study.psi = Extrapolation(cc.value - flanking_ul[None], cc.error_estimate,
                                       cc.order, cc.fitted)
-    study.theta_si_min = extrapolate(nodes, [lv.theta_si_min for lv in study.levels], rate,
-                                     noise)
+
+
+def _noise(imbalance: list) -> float:
+    """Relative size of round-off in the levels' values [-]: ten times the
+    heat-flow imbalance of the last three levels, at most :data:`NOISE_LIMIT`."""
+    return min(BALANCE_NOISE * max(imbalance[-3:]), NOISE_LIMIT)
 
 
 def _worst_indicators(cases: UnitCases, side, controlled) -> np.ndarray:
