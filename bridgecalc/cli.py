@@ -13,15 +13,26 @@ from pathlib import Path
 from . import __version__, api
 from .errors import BridgecalcError
 
+def _library_note() -> str:
+    """Where the shipped geometry scripts are, for the help texts."""
+    folder = api.geometries_folder()
+    names = sorted(p.stem for p in folder.glob("*.py") if p.stem != "__init__")
+    return f"shipped geometry scripts (the junction library): {', '.join(names)}, in {folder}"
+
+
 def _parser() -> argparse.ArgumentParser:
+    library = _library_note()
     parser = argparse.ArgumentParser(
         prog="bridgecalc",
-        description="Two-dimensional thermal bridge calculations to ISO 10211: "
-                    "linear thermal transmittance Ψ and temperature factor fRsi.")
+        description="Two-dimensional thermal bridge calculations to ISO 10211: coupling "
+                    "coefficients between any number of environments, linear thermal "
+                    "transmittance Ψ and temperature factor fRsi.",
+        epilog=library)
     parser.add_argument("--version", action="version", version=f"bridgecalc {__version__}")
     sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
 
-    run = sub.add_parser("run", help="compute one model file or geometry script")
+    run = sub.add_parser("run", help="compute one model file or geometry script",
+                         epilog=library)
     run.add_argument("model", metavar="MODEL", help="model file (.toml) or geometry script (.py)")
     run.add_argument("--out", metavar="DIR", help="output folder (default: a new folder "
                      "named after the model, in the current folder)")
@@ -51,7 +62,8 @@ def _parser() -> argparse.ArgumentParser:
         description="Run every combination of the --vary values through a geometry "
                     "script; write sweep.csv, sweep.png and sweep.txt. Exit 0 when every "
                     "variant was computed, 1 when some failed (each reported in its "
-                    "row), 2 on bad input (nothing written).")
+                    "row), 2 on bad input (nothing written).",
+        epilog=library)
     sweep.add_argument("script", metavar="SCRIPT", help="geometry script (.py)")
     sweep.add_argument("--vary", action="append", required=True,
                        metavar="NAME=START:STOP:COUNT|NAME=A,B,...",

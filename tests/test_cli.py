@@ -317,3 +317,15 @@ def test_python_dash_m(tmp_path):
     done = subprocess.run([sys.executable, "-m", "bridgecalc", "run", "nothing.toml"],
                           cwd=tmp_path, capture_output=True, text=True)
     assert done.returncode == 2 and done.stderr.startswith("error: ")
+
+
+def test_help_names_the_shipped_junction_library(capsys):
+    """--help says where the geometry scripts are: the package's own folder,
+    so it holds after a plain `pip install .` too."""
+    from bridgecalc.api import geometries_folder
+    with pytest.raises(SystemExit) as stop:
+        main(["--help"])
+    assert stop.value.code == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "junction library" in out and "slab_edge" in out
+    assert (geometries_folder() / "slab_edge.py").is_file()

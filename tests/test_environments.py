@@ -224,6 +224,7 @@ def test_wall_between_two_rooms_is_u_times_length():
     assert st.theta_si_min_environment == "flat B"
     assert st.f_rsi == pytest.approx(st.weighting_factors["flat B"], abs=1e-12)
     assert result.to_dict()["dimension_system"] == "internal"
+    assert loads(dumps(model), "again.toml") == model          # between, dimension_system
 
 
 # -- splitting an environment, holes ------------------------------------------------
