@@ -70,28 +70,26 @@ class CaseSet:
 
     def field(self, temperatures) -> TemperatureField:
         """The field with environment k at ``temperatures[k]`` [°C], sources on."""
-        theta = np.asarray(temperatures, dtype=float)
-        problem = self.unit[0].problem
-        values = sum(t * u.temperature for t, u in zip(theta, self.unit))
-        flows = sum(t * u.heat_flow for t, u in zip(theta, self.unit))
-        generated = 0.0
-        if self.source is not None:
-            values = values + self.source.temperature
-            flows = flows + self.source.heat_flow
-            generated = self.source.generated
-        return TemperatureField(problem, np.asarray(values, dtype=float),
-                                np.asarray(flows, dtype=float), generated)
+        return self._superposed(temperatures, self.source)
 
     def combination(self, members) -> TemperatureField:
         """u_c = Σ_{k in members} u_k: the environments ``members`` (indices)
         at 1 °C and the others at 0 °C, without sources."""
         weights = np.zeros(len(self.unit))
         weights[list(members)] = 1.0
-        problem = self.unit[0].problem
-        values = sum(w * u.temperature for w, u in zip(weights, self.unit))
-        flows = sum(w * u.heat_flow for w, u in zip(weights, self.unit))
-        return TemperatureField(problem, np.asarray(values, dtype=float),
-                                np.asarray(flows, dtype=float), 0.0)
+        return self._superposed(weights, None)
+
+    def _superposed(self, temperatures, source) -> TemperatureField:
+        """Σ_k θ_k u_k (+ w) with its heat flows."""
+        theta = np.asarray(temperatures, dtype=float)
+        values = sum(t * u.temperature for t, u in zip(theta, self.unit))
+        flows = sum(t * u.heat_flow for t, u in zip(theta, self.unit))
+        generated = 0.0
+        if source is not None:
+            values, flows = values + source.temperature, flows + source.heat_flow
+            generated = source.generated
+        return TemperatureField(self.unit[0].problem, np.asarray(values, dtype=float),
+                                np.asarray(flows, dtype=float), generated)
 
 
 @dataclass
@@ -192,8 +190,7 @@ def _solve_set(model: Model, problem: ConductionProblem, resistances,
     if rows:
         initial = None
         if guesses is not None:
-            order = [k for k in range(n_env) if k in solved]   # model order, as stored
-            initial = np.column_stack([guesses[k] for k in order]
+            initial = np.column_stack([guesses[k] for k in solved]
                                       + ([guesses[n_env]] if has_source else []))
         fields = problem.solve_cases(resistances, np.array(rows), sources, initial)
     unit: list = [None] * n_env
