@@ -114,14 +114,19 @@ def _check_materials(check: Checker, model: Model):
                        f"bridgecalc.model.air_layer_material()")
 
 
-def _defined_material(check: Checker, model: Model, name, where: str):
+def _defined(check: Checker, noun: str, name, defined: list, where: str):
+    """``name`` is one of ``defined`` (a string); else fail with the list and a
+    did-you-mean."""
     check.string(name, where)
-    if name not in model.materials:
-        defined = ", ".join(model.materials) or "none"
-        hint = difflib.get_close_matches(name, list(model.materials), n=1)
+    if name not in defined:
+        hint = difflib.get_close_matches(name, defined, n=1)
         did_you_mean = f"; did you mean {hint[0]!r}?" if hint else ""
-        check.fail(where, f"material {name!r} is not defined (defined: {defined})"
-                          f"{did_you_mean}")
+        check.fail(where, f"{noun} {name!r} is not defined (defined: "
+                          f"{', '.join(defined) or 'none'}){did_you_mean}")
+
+
+def _defined_material(check: Checker, model: Model, name, where: str):
+    _defined(check, "material", name, list(model.materials), where)
 
 
 def _check_regions(check: Checker, model: Model):
@@ -456,14 +461,7 @@ def _check_between(check: Checker, model: Model, between, where: str):
 
 
 def _defined_environment(check: Checker, model: Model, name, where: str):
-    """``name`` names an environment of the model."""
-    check.string(name, where)
-    names = [env.name for env in model.environments]
-    if name not in names:
-        hint = difflib.get_close_matches(name, names, n=1)
-        did_you_mean = f"; did you mean {hint[0]!r}?" if hint else ""
-        check.fail(where, f"environment {name!r} is not defined (defined: "
-                          f"{', '.join(names) or 'none'}){did_you_mean}")
+    _defined(check, "environment", name, [env.name for env in model.environments], where)
 
 
 def _check_probes(check: Checker, model: Model):
