@@ -223,7 +223,7 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
         Step between isotherms [K].
     dimension_system : str, optional
         As stated by a geometry script (``DIMENSION_SYSTEM``).
-    stamp : bridgecalc.stamp.Stamp or False, optional
+    stamp : bridgecalc.validation.stamp.Stamp or False, optional
         The validation stamp; default the cached one of this build (running
         the checks once if there is none); False leaves it out.
     workers : int, optional
