@@ -164,15 +164,22 @@ def coupling_entries(data: dict) -> list[dict]:
             for c in data["heat_flow_case"]["coupling_coefficients"]]
 
 
-def coupling_rows(result, dimension_system=None) -> list[dict]:
-    """couplings.csv: one row per pair of environments (see the module docstring)."""
+def several_pairs(data: dict) -> bool:
+    """Whether results.json's content has more than one pair of environments
+    (then couplings.csv and the report's coupling tables are written)."""
+    return len(data["heat_flow_case"]["coupling_coefficients"]) > 1
+
+
+def coupling_rows(data: dict, dimension_system=None) -> list[dict]:
+    """couplings.csv: one row per pair of environments (see the module docstring),
+    from results.json's content."""
     return [{"environment_i": e["between"][0], "environment_j": e["between"][1],
              "coupling_coefficient_W_per_mK": e["value"],
              "error_estimate_W_per_mK": "" if e["error"] is None else e["error"],
              "sum_ul_W_per_mK": "" if e["ul"] is None else e["ul"],
              "psi_W_per_mK": "" if e["psi"] is None else e["psi"],
              "dimension_system": dimension_system or "not stated"}
-            for e in coupling_entries(result.to_dict())]
+            for e in coupling_entries(data)]
 
 
 def csv_text(rows, columns=CSV_COLUMNS) -> str:

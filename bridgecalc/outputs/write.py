@@ -180,9 +180,9 @@ class OtherFilesJob:
         (staging / exports.CSV_FILE).write_text(
             exports.csv_text(exports.headline_row(result, self.f_rsi_min, system,
                                                   __version__)), encoding="utf-8")
-        if several_pairs(result):
+        if exports.several_pairs(self.data):
             (staging / exports.COUPLINGS_FILE).write_text(
-                exports.csv_text(exports.coupling_rows(result, system),
+                exports.csv_text(exports.coupling_rows(self.data, system),
                                  exports.COUPLING_COLUMNS), encoding="utf-8")
         if self.stamp is None:
             self.stamp = stamps.current_stamp()
@@ -258,7 +258,7 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
             sizes = {n: figure_size(n, result) for n in names}
             files = [RESULTS_FILE, exports.CSV_FILE, exports.VTU_FILE, REPORT_FILE,
                      REPORT_PDF_FILE] + [f"{n}.{fmt}" for n in names for fmt in FORMATS]
-            if several_pairs(result):
+            if exports.several_pairs(data):
                 files.insert(2, exports.COUPLINGS_FILE)
             pages = helper.submit("lay_out_report", pngs, sizes, files)
             draw_figures(result, staging, isotherm_step, f_rsi_min, workers)
@@ -269,7 +269,3 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
             figures_in.result()
     return out_dir
 
-
-def several_pairs(result) -> bool:
-    """Whether the result has more than one pair of environments (couplings.csv)."""
-    return len(result.heat_flow_case.coupling_coefficients) > 1

@@ -8,7 +8,7 @@ Read from results.json's content; nothing here recomputes physics.
 
 from __future__ import annotations
 
-from ..exports import coupling_entries
+from ..exports import coupling_entries, several_pairs
 from .blocks import KeyFigures, Para, Table
 from .numbers import g_text, n_text
 
@@ -19,11 +19,6 @@ KEY_COUPLINGS = 6
 def pair_text(between) -> str:
     """``room–garage``: a pair of environments in words."""
     return "–".join(between)
-
-
-def several_couplings(data: dict) -> bool:
-    """Whether the result has more than one pair of environments."""
-    return len(data["heat_flow_case"].get("coupling_coefficients", [])) > 1
 
 
 def key_figures(key: KeyFigures, data: dict, system: str | None) -> None:
