@@ -18,7 +18,7 @@ from ..model import Model
 from ..solve.cases import UnitCases
 from ..study.levels import (ConvergenceStudy, given_heat_flows, heat_flow_balance,
                                  interior_side, pair_name, pairs_of)
-from .flanking import FlankingResult, flanking_results, flanking_sums, pair_key
+from .flanking import FlankingResult, flanking_by_coupling, flanking_results
 
 
 def coupling_coefficient(interior_heat_flow: float, theta_i: float, theta_e: float) -> float:
@@ -189,7 +189,7 @@ def heat_flow_case(cases: UnitCases, study: ConvergenceStudy | None = None) -> H
     model = cases.model
     names = [e.name for e in model.environments]
     flanking = flanking_results(model)
-    sums = flanking_sums(model, flanking)
+    groups = flanking_by_coupling(model, flanking)
     flows = best_heat_flows(cases, study)
     source = cases.heat.source
     generated = source.generated if source is not None else 0.0
@@ -200,9 +200,7 @@ def heat_flow_case(cases: UnitCases, study: ConvergenceStudy | None = None) -> H
         pair = pair_name(model, i, j)
         value = float(study.couplings[pair].value if study is not None and study.couplings
                       else finest[i, j])
-        members = [f for f in flanking
-                   if (f.between is not None and pair_key(model, f.between) == pair)
-                   or (f.between is None and len(names) == 2)]
+        members = groups.get(pair, [])
         psi = linear_thermal_transmittance(value, [f.ul for f in members]) if members else None
         couplings.append(Coupling(pair, value, members, psi))
     l2d = psi = None
@@ -210,8 +208,8 @@ def heat_flow_case(cases: UnitCases, study: ConvergenceStudy | None = None) -> H
     if side is not None:
         theta_i, theta_e, inside = side
         l2d = coupling_coefficient(float(flows[inside].sum()), theta_i, theta_e)
-        if None in sums:
-            psi = linear_thermal_transmittance(l2d, [sums[None]])
+        if None in groups:
+            psi = linear_thermal_transmittance(l2d, [f.ul for f in groups[None]])
         if study is not None and study.coupling_coefficient is not None:
             study.coupling_coefficient = _with_value(study.coupling_coefficient, l2d)
             if study.psi is not None and psi is not None:

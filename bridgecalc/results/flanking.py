@@ -109,17 +109,26 @@ def counts_in_two_temperature_psi(model: Model, flanking: FlankingResult) -> boo
     return a != b
 
 
-def flanking_sums(model: Model, results: list[FlankingResult] | None = None) -> dict:
-    """Σ U·l [W/(m·K)] per coupling coefficient with flanking elements: keyed
-    None for the two-temperature Ψ, and by pair (model order) for Ψ_ij."""
+def flanking_by_coupling(model: Model, results: list[FlankingResult] | None = None) -> dict:
+    """The flanking elements each coupling coefficient is reduced by: keyed
+    None for the two-temperature Ψ, and by pair (model order) for Ψ_ij. An
+    element without ``between`` counts against the one pair of a model with
+    two environments."""
     results = flanking_results(model) if results is None else results
-    terms: dict = {}
+    groups: dict = {}
     for f in results:
         if counts_in_two_temperature_psi(model, f):
-            terms.setdefault(None, []).append(f.ul)
+            groups.setdefault(None, []).append(f)
         if f.between is not None:
-            terms.setdefault(pair_key(model, f.between), []).append(f.ul)
+            groups.setdefault(pair_key(model, f.between), []).append(f)
         elif len(model.environments) == 2:
-            key = pair_key(model, [e.name for e in model.environments])
-            terms.setdefault(key, []).append(f.ul)
-    return {key: math.fsum(values) for key, values in terms.items()}
+            groups.setdefault(pair_key(model, [e.name for e in model.environments]),
+                              []).append(f)
+    return groups
+
+
+def flanking_sums(model: Model, results: list[FlankingResult] | None = None) -> dict:
+    """Σ U·l [W/(m·K)] per coupling coefficient with flanking elements, keyed as
+    :func:`flanking_by_coupling`."""
+    return {key: math.fsum(f.ul for f in members)
+            for key, members in flanking_by_coupling(model, results).items()}
