@@ -7,6 +7,7 @@ same model.
 
 from __future__ import annotations
 
+import dataclasses
 import os
 import sys
 import tomllib
@@ -145,9 +146,8 @@ def loads(text: str, origin: str = "<string>") -> Model:
                            f"expected four numbers [x0, y0, x1, y1], got {describe(rect)}")
             x0, y0, x1, y1 = (check.coordinate(c, f"{where}.rectangle[{k}]")
                               for k, c in enumerate(rect))
-            region = Region.rectangle(material, x0, y0, x1, y1, heat_source)
-            regions.append(Region(region.material, region.vertices, heat_source, "rectangle",
-                                  holes))
+            regions.append(dataclasses.replace(
+                Region.rectangle(material, x0, y0, x1, y1, heat_source), holes=holes))
         else:
             vertices = check.points(table["polygon"], f"{where}.polygon", 3, "a polygon")
             regions.append(Region(material, tuple(vertices), heat_source, "polygon", holes))
