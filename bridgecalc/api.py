@@ -21,6 +21,7 @@ from pathlib import Path
 
 import dataclasses
 
+from .assessments import assess as assess_result
 from .errors import BridgecalcError, ModelError
 from .mesh import MeshOptions, build_mesh
 from .model import Model
@@ -75,7 +76,8 @@ def demo_model() -> Model:
 
 def run(model: Model, mesh_options: MeshOptions | None = None, element: str = "P1", *,
         tolerance: float = DEFAULT_TOLERANCE, max_nodes: int = DEFAULT_MAX_NODES,
-        refinement: str | None = "adaptive", refine: float = 1.0) -> Result:
+        refinement: str | None = "adaptive", refine: float = 1.0,
+        f_rsi_min: float | None = None) -> Result:
     """Mesh and solve a model until the answer no longer depends on the mesh.
 
     Parameters
@@ -96,20 +98,30 @@ def run(model: Model, mesh_options: MeshOptions | None = None, element: str = "P
     refine : float
         Divides every element size of the study's first mesh (when no
         ``mesh_options`` are given) [-]; the command line's ``--refine``.
+    f_rsi_min : float, optional
+        A temperature-factor criterion [-] to give a verdict on (``--f-rsi-min``).
 
     Returns
     -------
     Result
         Fields and heat flows of the finest mesh; the coupling coefficients,
         Ψ and L2D are the study's best (extrapolated) estimates (see
-        :mod:`bridgecalc.study.convergence`).
+        :mod:`bridgecalc.study.convergence`); ``assessment`` holds the
+        verdicts (:func:`assess`).
     """
     if not (isinstance(refine, (int, float)) and refine > 0):
         raise BridgecalcError(f"--refine must be a positive number, got {refine!r}")
     if mesh_options is None and refine != 1.0:
         mesh_options = dataclasses.replace(FIRST_MESH, refinement=refine)
     with one_blas_thread():
-        return _run(model, mesh_options, element, tolerance, max_nodes, refinement)
+        return assess_result(_run(model, mesh_options, element, tolerance, max_nodes,
+                                  refinement), f_rsi_min)
+
+
+def assess(result: Result, f_rsi_min: float | None = None) -> Result:
+    """``result`` with its verdicts against ``f_rsi_min`` [-] and the model's
+    ``[moisture]`` check (:func:`bridgecalc.assessments.assess`)."""
+    return assess_result(result, f_rsi_min)
 
 
 def _run(model, mesh_options, element, tolerance, max_nodes, refinement) -> Result:

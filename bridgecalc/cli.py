@@ -97,7 +97,7 @@ def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None, st
     api.check_options(f_rsi_min, isotherm_step, model)   # bad options: exit 2 before any work
     tolerance = getattr(args, "tolerance", None)
     max_nodes = getattr(args, "max_nodes", None)
-    result = api.run(model, None, element, refine=refine,
+    result = api.run(model, None, element, refine=refine, f_rsi_min=f_rsi_min,
                      tolerance=api.DEFAULT_TOLERANCE if tolerance is None else tolerance,
                      max_nodes=api.DEFAULT_MAX_NODES if max_nodes is None else max_nodes)
     api.write_outputs(result, out_dir, f_rsi_min=f_rsi_min, isotherm_step=isotherm_step,

@@ -546,7 +546,7 @@ def test_no_exterior_surface_runs_with_a_warning_and_no_verdict():
     so L2D = 0 and fRsi = 1 by construction (all the solid sits at θi); the run
     carries a warning and an fRsi criterion is not assessed, never passed."""
     import bridgecalc
-    from bridgecalc.results import f_rsi_verdict
+    from bridgecalc.assessments import f_rsi_verdict
     data = base()
     data["surfaces"][1]["environment"] = "inside"
     result = bridgecalc.run(modelfile.loads(text_of(data), "detail.toml"), refinement=None)
@@ -556,7 +556,7 @@ def test_no_exterior_surface_runs_with_a_warning_and_no_verdict():
     assert "no surface faces an exterior environment ('outside')" in result.warnings[0]
     assert result.to_dict()["warnings"] == result.warnings
     assert f_rsi_verdict(result.f_rsi, 0.75, result.warnings) == "not assessed"
-    assert f_rsi_verdict(result.f_rsi, 0.75) == "meets"
+    assert f_rsi_verdict(result.f_rsi, 0.75) == "passes"
     assert "warnings" not in bridgecalc.run(modelfile.loads(text_of(base()), "detail.toml"),
                                             refinement=None).to_dict()
 

@@ -12,6 +12,7 @@ import math
 import shapely
 
 from . import geometry
+from .moisture import check_moisture
 from .checker import (Checker, describe, fmt, fmt_point, is_real, is_sequence,
                       material_where)
 from .outline import outline_edges, region_shapes, solid_pieces
@@ -83,6 +84,8 @@ def validate(model: Model) -> None:
     _check_surfaces(check, model)
     _check_flanking(check, model)
     _check_probes(check, model)
+    if model.moisture is not None:
+        check_moisture(check, model.moisture, model.environments)
     _check_geometry(check, model)
 
 
@@ -328,6 +331,26 @@ def _check_surfaces(check: Checker, model: Model):
         check.number(surf.resistance_surface_temperature,
                      f"{where}.resistance_surface_temperature", minimum=0.0, optional=True)
         check.points(surf.path, f"{where}.path", 2, "a surface path")
+        _check_assess(check, model, surf, where)
+    interior = [s for s in model.surfaces
+                if model.environment(s.environment).kind == "interior"]
+    if interior and not any(s.assess for s in interior):
+        check.fail("surfaces", "every surface facing an interior environment has "
+                               "assess = false, so no interior surface is left to search for "
+                               "θsi,min and fRsi; leave assess out (true) on the opaque ones")
+
+
+def _check_assess(check: Checker, model: Model, surf: Surface, where: str):
+    """``assess`` (addition F) is a boolean, and false only where it means something:
+    on a surface facing an interior environment."""
+    if not isinstance(surf.assess, bool):
+        check.fail(f"{where}.assess", f"expected true or false, got {describe(surf.assess)}")
+    if not surf.assess and model.environment(surf.environment).kind != "interior":
+        check.fail(f"{where}.assess", f"only surfaces facing an interior environment are "
+                                      f"searched for θsi,min; this one faces "
+                                      f"{surf.environment!r} "
+                                      f"({model.environment(surf.environment).kind}), so "
+                                      f"assess = false changes nothing: leave it out")
 
 
 #: Smallest |θi − θe| accepted, relative to the larger of |θi|, |θe| and 1 K [-].

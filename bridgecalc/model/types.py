@@ -163,12 +163,17 @@ class Surface:
     resistance_surface_temperature : float or None
         Surface resistance for θsi,min and fRsi [m²·K/W] (ISO 13788);
         ``None`` means the same as ``resistance``.
+    assess : bool
+        False leaves an interior surface out of the search for θsi,min and
+        fRsi (glazing and frames, which have criteria of their own); it still
+        carries heat (model format 1, addition F).
     """
 
     environment: str
     resistance: float
     path: tuple[Point, ...]
     resistance_surface_temperature: float | None = None
+    assess: bool = True
 
     @property
     def resistance_for_surface_temperature(self) -> float:
@@ -269,6 +274,8 @@ class Model:
     dimension_system : str or None
         The ISO 14683 dimension system the flanking lengths are measured in
         (:data:`DIMENSION_SYSTEMS`), or None when not stated.
+    moisture : bridgecalc.model.moisture.MoistureCheck or None
+        The ISO 13788 surface-humidity check asked for (``[moisture]``).
     origin : str
         Where the model came from (a file path or a script), used in messages.
     """
@@ -282,6 +289,7 @@ class Model:
     probes: list[Probe] = field(default_factory=list)
     name: str | None = None
     dimension_system: str | None = None
+    moisture: object = None
     # Where the model came from is not part of its content: a model written to
     # a file and read back equals the original.
     origin: str = field(default="<model>", compare=False)

@@ -26,7 +26,8 @@ import io
 
 import numpy as np
 
-from ..results import f_rsi_verdict, heat_flux_density
+from ..assessments import f_rsi_verdict
+from ..results import heat_flux_density
 
 VTU_FILE = "field.vtu"
 CSV_FILE = "results.csv"

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from ..results import printed_position
+from .verdicts import summary_lines as verdict_lines
 
 
 def run_summary(result, out_dir) -> str:
@@ -37,6 +38,7 @@ def run_summary(result, out_dir) -> str:
     else:
         weights = ", ".join(f"{name} {g:.3f}" for name, g in st.weighting_factors.items())
         lines.append(f"  g at θsi,min       {weights} ({st.theta_si_min_environment}'s surface)")
+    lines.extend(verdict_lines(result))
     for name, value in st.probes.items():
         lines.append(f"  probe {name:<13}{value:12.2f} °C (surface-temperature case)")
     if getattr(result, "convergence", None) is not None:

@@ -77,6 +77,18 @@ def check_options(f_rsi_min=None, isotherm_step=None, model=None) -> None:
                     f"at least {span / MAX_ISOTHERMS:.3g} K (at most {MAX_ISOTHERMS} isotherms)")
 
 
+def assessed(result, f_rsi_min=None):
+    """The result assessed against ``f_rsi_min`` [-] (default: the criterion it
+    was assessed against), and that criterion: every output shows the same
+    verdicts, decided once (:mod:`bridgecalc.assessments`)."""
+    from ..assessments import assess, criterion_of
+    if f_rsi_min is None:
+        f_rsi_min = criterion_of(result)
+    if getattr(result, "assessment", None) is None or criterion_of(result) != f_rsi_min:
+        result = assess(result, f_rsi_min)
+    return result, f_rsi_min
+
+
 # -- figures, possibly in worker processes ------------------------------------------
 
 class FigureJob:
@@ -239,6 +251,7 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
         The destination folder.
     """
     check_options(f_rsi_min, isotherm_step)
+    result, f_rsi_min = assessed(result, f_rsi_min)
     out_dir = Path(out_dir)
     if workers is None:
         workers = default_workers()

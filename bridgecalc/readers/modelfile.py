@@ -20,17 +20,19 @@ from ..model.checker import (Checker, describe, is_real, is_sequence, key_text,
 from ..model.types import (FORMAT, LENGTH_UNITS, AirLayer, Environment, Flanking, Layer,
                            Material, Model, Probe, Region, Surface, air_layer_material)
 from ..model.rules import check_air_layer, validate
+from .climate import moisture_text, read_moisture
 
 
 #: Keys each table of a format-1 file may hold (plus ``air_layer``, added by
 #: bridgecalc, see docs/model-format.md).
 TOP_LEVEL_KEYS = ("format", "name", "length_unit", "dimension_system", "materials", "regions",
-                  "environments", "surfaces", "flanking", "probes")
+                  "environments", "surfaces", "flanking", "probes", "moisture")
 MATERIAL_KEYS = ("conductivity", "source", "air_layer")
 AIR_LAYER_KEYS = ("thickness", "direction", "emissivities")
 REGION_KEYS = ("material", "rectangle", "polygon", "holes", "heat_source")
 ENVIRONMENT_KEYS = ("name", "temperature", "kind")
-SURFACE_KEYS = ("environment", "resistance", "resistance_surface_temperature", "path")
+SURFACE_KEYS = ("environment", "resistance", "resistance_surface_temperature", "path",
+                "assess")
 FLANKING_KEYS = ("name", "between", "u_value", "length", "layers", "surface_resistances")
 LAYER_KEYS = ("material", "thickness")
 PROBE_KEYS = ("name", "at")
@@ -171,7 +173,8 @@ def loads(text: str, origin: str = "<string>") -> Model:
             _required(check, table, "environment", where),
             _as_float(_required(check, table, "resistance", where)),
             tuple(path),
-            _as_float(table.get("resistance_surface_temperature"))))
+            _as_float(table.get("resistance_surface_temperature")),
+            table.get("assess", True)))
 
     flanking = []
     for i, table in enumerate(_array_of_tables(check, data, "flanking")):
@@ -214,10 +217,13 @@ def loads(text: str, origin: str = "<string>") -> Model:
         at = check.point(_required(check, table, "at", where), f"{where}.at")
         probes.append(Probe(_required(check, table, "name", where), at))
 
+    moisture = (read_moisture(check, data["moisture"], origin, environments)
+                if "moisture" in data else None)
     model = Model(length_unit=unit, materials=materials, regions=regions,
                   environments=environments, surfaces=surfaces, flanking=flanking,
                   probes=probes, name=data.get("name"),
-                  dimension_system=data.get("dimension_system"), origin=origin, format=fmt)
+                  dimension_system=data.get("dimension_system"), moisture=moisture,
+                  origin=origin, format=fmt)
     validate(model)
     return model
 
@@ -302,6 +308,8 @@ def _number_text(value) -> str:
 
 
 def _value_text(value) -> str:
+    if isinstance(value, bool):
+        return "true" if value else "false"
     if isinstance(value, str):
         return tomli_w.dumps({"v": value})[4:-1]
     if isinstance(value, dict):
@@ -371,6 +379,8 @@ def dumps(model: Model) -> str:
             out.append(_assignment("resistance_surface_temperature",
                                    surf.resistance_surface_temperature))
         out.append(_assignment("path", [list(p) for p in surf.path]))
+        if not surf.assess:
+            out.append(_assignment("assess", False))
     for flank in model.flanking:
         out += ["", "[[flanking]]", _assignment("name", flank.name)]
         if flank.between is not None:
@@ -388,6 +398,8 @@ def dumps(model: Model) -> str:
     for probe in model.probes:
         out += ["", "[[probes]]", _assignment("name", probe.name),
                 _assignment("at", list(probe.at))]
+    if model.moisture is not None:
+        out += ["", *moisture_text(model.moisture, _assignment)]
     return "\n".join(out) + "\n"
 
 

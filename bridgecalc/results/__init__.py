@@ -13,13 +13,15 @@ from .couplings import (Coupling, HeatFlowCase, coupling_coefficient, heat_flow_
 from .fields import SurfaceProfile, heat_flux_density, interior_surface_profiles
 from .flanking import FlankingResult, flanking_results, flanking_sums, flanking_u_value
 from .result import BALANCE_LIMIT, RESULTS_FORMAT, Result, build_result
-from .surface import (CAUTION, SurfaceTemperatureCase, design_temperatures, f_rsi_verdict,
-                      printed_position, surface_temperature_case, temperature_factor)
+from .surface import (CAUTION, SurfaceTemperatureCase, design_temperatures,
+                      lowest_surface_temperature, printed_position, surface_temperature_case,
+                      temperature_factor)
 
 __all__ = ("BALANCE_LIMIT", "CAUTION", "Coupling", "FlankingResult", "HeatFlowCase",
            "RESULTS_FORMAT", "Result", "SurfaceProfile", "SurfaceTemperatureCase",
-           "build_result", "coupling_coefficient", "design_temperatures", "f_rsi_verdict",
+           "build_result", "coupling_coefficient", "design_temperatures",
            "flanking_results", "flanking_sums", "flanking_u_value", "heat_flow_case",
            "heat_flux_density", "interior_surface_profiles", "linear_thermal_transmittance",
+           "lowest_surface_temperature",
            "printed_position", "probe_temperatures", "surface_temperature_case",
            "temperature_factor")

@@ -40,6 +40,10 @@ class Result:
         results.json, the summary and the report.
     cases : UnitCases or None
         The finest mesh's unit solutions (one per environment and resistance set).
+    assessment : object or None
+        What :mod:`bridgecalc.assessments` made of the result (verdicts on
+        criteria, the ISO 13788 check); it adds its keys to results.json
+        through its ``add_to(results)``.
     """
 
     model: Model
@@ -50,6 +54,7 @@ class Result:
     convergence: ConvergenceStudy | None = None
     warnings: list = dataclasses.field(default_factory=list)
     cases: UnitCases | None = dataclasses.field(default=None, repr=False)
+    assessment: object = None
 
     @property
     def psi(self):
@@ -103,6 +108,8 @@ class Result:
             out["convergence"] = self.convergence.to_dict()
         if self.warnings:
             out["warnings"] = list(self.warnings)
+        if self.assessment is not None:
+            self.assessment.add_to(out)
         return out
 
 

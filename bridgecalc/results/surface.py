@@ -55,18 +55,6 @@ def temperature_factor(theta_si_min: float, theta_i: float, theta_e: float) -> f
     return (theta_si_min - theta_e) / (theta_i - theta_e)
 
 
-def f_rsi_verdict(f_rsi: float | None, f_rsi_min: float | None, warnings=()) -> str | None:
-    """The verdict on a criterion fRsi,min [-]: ``"meets"`` (fRsi ≥ fRsi,min),
-    ``"fails"``, ``"not assessed"`` when the result carries warnings (its fRsi
-    may be 1 by construction) or has no fRsi (more than two temperatures),
-    or None without a criterion."""
-    if f_rsi_min is None:
-        return None
-    if warnings or f_rsi is None:
-        return "not assessed"
-    return "meets" if f_rsi >= f_rsi_min else "fails"
-
-
 def printed_position(model: Model, point) -> str:
     """A position [length_unit] as text, to a ten-thousandth of the model's size.
 
@@ -141,6 +129,19 @@ def surface_temperature_case(cases: UnitCases) -> SurfaceTemperatureCase:
     at = tuple(float(c) for c in where / model.metres_per_unit)
     return SurfaceTemperatureCase(theta_min, at, f_rsi, probe_temperatures(model, field_),
                                   field_, environment, g)
+
+
+def lowest_surface_temperature(cases: UnitCases, temperatures: dict,
+                               environment: str | None = None) -> float:
+    """The lowest temperature [°C] on the surfaces searched for θsi,min (facing
+    ``environment`` only, when given) with the environments at ``temperatures``
+    [°C, by name] instead of the model's, by superposing the unit solutions of
+    the surface-temperature case (ISO 10211; the heat sources' share included)."""
+    model = cases.model
+    surfaces = [j for j in interior_surfaces(model)
+                if environment is None or model.surfaces[j].environment == environment]
+    values = np.array([temperatures[e.name] for e in model.environments], float)
+    return float(cases.surface.field(values).minimum_on(surfaces)[0])
 
 
 def _edge_at(field_, surfaces, where) -> tuple[int, float]:

@@ -87,9 +87,10 @@ def given_heat_flows(cases: UnitCases) -> np.ndarray:
 
 
 def interior_surfaces(model: Model) -> list[int]:
-    """Indices of the surfaces facing an interior environment."""
+    """Indices of the surfaces searched for θsi,min: those facing an interior
+    environment, less those with ``assess = false`` (addition F)."""
     return [j for j, s in enumerate(model.surfaces)
-            if model.environment(s.environment).kind == "interior"]
+            if s.assess and model.environment(s.environment).kind == "interior"]
 
 
 @dataclass

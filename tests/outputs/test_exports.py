@@ -79,6 +79,6 @@ def test_csv_row_carries_the_headline_numbers(demo):
     assert float(row["psi_W_per_mK"]) == demo.psi
     assert float(row["coupling_coefficient_W_per_mK"]) == demo.coupling_coefficient
     assert float(row["f_rsi"]) == demo.f_rsi
-    assert row["f_rsi_verdict"] == ("meets" if demo.f_rsi >= 0.75 else "fails")
+    assert row["f_rsi_verdict"] == ("passes" if demo.f_rsi >= 0.75 else "fails")
     assert row["dimension_system"] == "external"
     assert exports.csv_text(exports.headline_row(demo, 0.75, "external", "9.9")) == text

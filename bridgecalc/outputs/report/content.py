@@ -15,7 +15,8 @@ from pathlib import Path
 from types import MappingProxyType
 
 from ... import __version__
-from ...results import CAUTION, f_rsi_verdict, printed_position
+from ...assessments import f_rsi_verdict
+from ...results import CAUTION, printed_position
 from . import couplings
 from .blocks import Figure, Heading, KeyFigures, Para, Report, Table
 from .numbers import g_text as _g, n_text as _n, point_text as _point
@@ -238,7 +239,7 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
                            f"stand.", "fail"))
     where = _surface_of_minimum(result)
     where_text = f" on surface S{where + 1}" if where is not None else ""
-    if verdict == "meets":
+    if verdict == "passes":
         blocks.append(Para(
             f"PASS against the criterion given for this run: fRsi = {_n(st['f_rsi'], 3)} ≥ "
             f"{_g(f_rsi_min)} (θsi,min = {_n(st['theta_si_min'], 2)} °C at "
@@ -374,7 +375,7 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
         rows.append(["fRsi = (θsi,min − θe)/(θi − θe)", _n(st["f_rsi"], 3), "–"])
     if f_rsi_min is not None:
         rows.append(["fRsi criterion given for this run", _g(f_rsi_min),
-                     {"meets": "meets", "fails": "FAILS"}.get(verdict, "NOT ASSESSED")])
+                     {"passes": "passes", "fails": "FAILS"}.get(verdict, "NOT ASSESSED")])
     for name, value in hf["heat_flow"].items():
         rows.append([f"heat flow from environment {name} (heat-flow case)", _n(value), "W/m"])
     rows.append(["heat-flow balance |Σ Φ| / max |Φ|", f"{hf['balance']:.1e}", "–"])
