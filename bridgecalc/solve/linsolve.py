@@ -17,10 +17,10 @@ by size and by what is installed:
   Gauss–Seidel sweep before and one backward sweep after the coarse
   correction keep the preconditioner symmetric (Hackbusch, *Multi-Grid
   Methods and Applications*, Springer 1985; Briggs, Henson & McCormick, *A
-  Multigrid Tutorial*, SIAM 2000). Needs the optional ``pyamg`` for its
+  Multigrid Tutorial*, SIAM 2000). Uses ``pyamg`` (a dependency) for its
   compiled Gauss–Seidel sweeps; used for large systems that have a chain;
 * ``amg``: conjugate gradients preconditioned by smoothed-aggregation
-  algebraic multigrid (optional ``pyamg``), for the largest systems without a
+  algebraic multigrid (``pyamg``), for the largest systems without a
   chain, where a direct factor costs too much memory.
 
 Iterative solves are checked: one that does not reach :data:`CG_TOLERANCE`
