@@ -18,6 +18,7 @@ from __future__ import annotations
 
 from importlib import resources
 from pathlib import Path
+from types import MappingProxyType
 
 import dataclasses
 
@@ -33,8 +34,11 @@ from .solve.cases import solve_cases
 from .solve.linsolve import one_blas_thread
 from .study.convergence import DEFAULT_MAX_NODES, DEFAULT_TOLERANCE, FIRST_MESH, converge
 
-#: The shipped geometry script the demo computes.
-DEMO_SCRIPT = "slab_edge.py"
+#: The shipped geometry script the demo computes, and its parameters: the
+#: scenario's balcony slab without its thermal break, so that Ψ and the coldest
+#: interior point both come from the junction (docs/scenario.md).
+DEMO_SCRIPT = "balcony.py"
+DEMO_PARAMETERS = MappingProxyType({"thermal_break": False})
 
 
 def load(path, settings=(), **params) -> Model:
@@ -70,8 +74,9 @@ def geometries_folder() -> Path:
 
 
 def demo_model() -> Model:
-    """The shipped demo junction."""
-    return load(geometries_folder() / DEMO_SCRIPT)
+    """The shipped demo junction: a balcony slab through the wall's insulation,
+    without a thermal break (:data:`DEMO_SCRIPT`, :data:`DEMO_PARAMETERS`)."""
+    return load(geometries_folder() / DEMO_SCRIPT, **DEMO_PARAMETERS)
 
 
 def run(model: Model, mesh_options: MeshOptions | None = None, element: str = "P1", *,
@@ -163,12 +168,14 @@ def format_checks(rows) -> str:
 
 
 def write_outputs(result: Result, out_dir, *, f_rsi_min=None, isotherm_step=None, stop=None,
-                  workers=None):
-    """Write results.json, the exports, the figures and the report into ``out_dir``,
-    whole or not at all (see :func:`bridgecalc.outputs.write_outputs`)."""
+                  workers=None, vector_figures=False):
+    """Write results.json, the exports, the figures (PNG; with ``vector_figures``
+    SVG and PDF too) and the report into ``out_dir``, whole or not at all (see
+    :func:`bridgecalc.outputs.write_outputs`)."""
     from .outputs import write_outputs as write
     return write(result, out_dir, f_rsi_min=f_rsi_min, isotherm_step=isotherm_step,
-                 dimension_system=result.model.dimension_system, stop=stop, workers=workers)
+                 dimension_system=result.model.dimension_system, stop=stop, workers=workers,
+                 vector_figures=vector_figures)
 
 
 def check_options(f_rsi_min=None, isotherm_step=None, model=None) -> None:

@@ -89,6 +89,9 @@ def _report_options(parser) -> None:
     parser.add_argument("--isotherm-step", type=float, metavar="K",
                         help="temperature step between isotherms in the figure [K] "
                              "(default: about a tenth of θi − θe)")
+    parser.add_argument("--vector-figures", action="store_true",
+                        help="write each figure as SVG and PDF too, for editing or "
+                             "printing at any scale (default: PNG only, at 300 dpi)")
 
 
 def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None, stop=None) -> Path:
@@ -101,7 +104,7 @@ def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None, st
                      tolerance=api.DEFAULT_TOLERANCE if tolerance is None else tolerance,
                      max_nodes=api.DEFAULT_MAX_NODES if max_nodes is None else max_nodes)
     api.write_outputs(result, out_dir, f_rsi_min=f_rsi_min, isotherm_step=isotherm_step,
-                      stop=stop)
+                      stop=stop, vector_figures=getattr(args, "vector_figures", False))
     print(api.summary(result, out_dir))
     for warning in result.warnings:
         print(f"warning: {warning}", file=sys.stderr)

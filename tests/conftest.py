@@ -56,7 +56,8 @@ def solve_level(model, mesh, element="P1"):
 
 
 @pytest.fixture(scope="module")
-def demo(geometries):
-    """The shipped demo junction's result, computed once per test module."""
-    from bridgecalc.api import load, run
-    return run(load(geometries / "slab_edge.py"))
+def demo():
+    """The shipped demo junction's result (a balcony slab without a thermal
+    break, ``api.demo_model``), computed once per test module."""
+    from bridgecalc.api import demo_model, run
+    return run(demo_model())

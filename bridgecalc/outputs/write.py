@@ -7,16 +7,19 @@ Files of one run (:func:`write_outputs`)::
     field.vtu               temperatures, materials and heat flux for ParaView
     report.html             the review report, self-contained
     report.pdf              the same report as PDF
-    materials.{png,svg,pdf} and mesh, temperature, heat_flux, surface_temperature
+    materials.png           and mesh, temperature, heat_flux, surface_temperature
+                            (with ``vector_figures``, each as .svg and .pdf too)
 
 All of them are written into a staging folder that is moved into place at
-the end (:func:`bridgecalc.outputs.folder.staged_folder`). Where the platform
-can fork, the fifteen figure files (most of the time of the outputs) are
-drawn in two worker processes, and a helper process writes the other files
-meanwhile: it is forked first, so it writes field.vtu, loads the PDF
-libraries and lays out report.pdf (from the figures' sizes, known without
-matplotlib) while matplotlib is imported here; the figures' own PDF pages go
-into it at the end.
+the end (:func:`bridgecalc.outputs.folder.staged_folder`). Each figure is
+drawn once, as its PNG; report.html embeds those bytes and report.pdf places
+the same compressed pixels (:func:`.report.pdf.stamp_figures`), so neither
+report draws or encodes a figure again. Where the platform can fork, the
+figures (most of the time of the outputs) are drawn in two worker processes,
+and a helper process writes the other files meanwhile: it is forked first,
+so it writes field.vtu, loads the PDF libraries and lays out report.pdf (from
+the figures' sizes, known without matplotlib) while matplotlib is imported
+here; the figures go into it at the end.
 """
 
 from __future__ import annotations
@@ -103,34 +106,47 @@ class FigureJob:
         self.folder = Path(folder)
         self.options = {"isotherm_step": isotherm_step, "f_rsi_min": f_rsi_min}
 
-    def draw(self, name: str, formats=None) -> tuple[str, list[str]]:
-        """Figure ``name`` written as ``formats`` (default all); returns the name and the files."""
+    def draw(self, name: str, formats) -> tuple[str, list[str]]:
+        """Figure ``name`` written as ``formats``; returns the name and the files."""
         from . import figures
         fig = figures.build_figure(name, self.result, **self.options)
         try:
-            return name, [str(p) for p in figures.save(fig, self.folder / name,
-                                                       formats or figures.FORMATS)]
+            return name, [str(p) for p in figures.save(fig, self.folder / name, formats)]
         finally:
             figures.plt.close(fig)
 
 
-#: Drawing tasks for worker processes, (figure, formats or None for all), from the
-#: most work to the least, so that two workers taking them in turn finish close
-#: together. The lightest figure is built twice, once for the PNG and once for
-#: the vector files: that costs little and fills the end evenly.
-DRAWING_TASKS = (("temperature", None), ("heat_flux", None), ("mesh", None),
-                 ("materials", None), ("surface_temperature", ("png",)),
-                 ("surface_temperature", ("svg", "pdf")))
+#: The figures from the most work to the least, so that two workers taking
+#: them in turn finish close together; names not listed come last.
+DRAWING_ORDER = ("temperature", "heat_flux", "mesh", "materials", "surface_temperature")
 
 
-def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=None) -> dict:
-    """Every figure as PNG, SVG and PDF in ``folder``.
+def drawing_tasks(names, formats) -> list[tuple[str, tuple[str, ...]]]:
+    """(figure, formats) for worker processes, heaviest first (:data:`DRAWING_ORDER`).
+
+    With vector files, the lightest figure's PNG and its vector files are
+    two tasks: that costs little and fills the end evenly.
+    """
+    rank = {n: k for k, n in enumerate(DRAWING_ORDER)}
+    ordered = sorted(names, key=lambda n: (rank.get(n, len(rank)), n))
+    tasks = [(n, tuple(formats)) for n in ordered]
+    if len(formats) > 1 and tasks:
+        last, _ = tasks.pop()
+        tasks += [(last, tuple(formats[:1])), (last, tuple(formats[1:]))]
+    return tasks
+
+
+def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=None,
+                 formats=None) -> dict:
+    """Every figure in ``folder``, as ``formats`` (default :data:`.figures.DEFAULT_FORMATS`).
 
     Parameters
     ----------
     workers : int, optional
-        Processes to draw in (:data:`DRAWING_TASKS`); default
+        Processes to draw in (:func:`drawing_tasks`); default
         :func:`.workers.default_workers`; 1 draws each figure in this process.
+    formats : tuple of str, optional
+        Some of :data:`.figures.FORMATS`.
 
     Returns
     -------
@@ -139,20 +155,19 @@ def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=Non
         :data:`.figures.FORMATS` order.
     """
     from . import figures
+    formats = tuple(formats or figures.DEFAULT_FORMATS)
     job = FigureJob(result, folder, isotherm_step, f_rsi_min)
     if workers is None:
         workers = default_workers()
     names = figures.figure_names(result)
     written: dict = {n: [] for n in names}
     if workers > 1 and can_fork():
-        tasks = [t for t in DRAWING_TASKS if t[0] in written]
-        tasks += [(n, None) for n in names if n not in {t[0] for t in tasks}]
-        figures.prepare()                 # once here, not once per worker
-        for name, paths in map_forked(job, "draw", tasks, workers):
+        figures.prepare(vector=len(formats) > 1)        # once here, not once per worker
+        for name, paths in map_forked(job, "draw", drawing_tasks(names, formats), workers):
             written[name] += paths
     else:
         for name in names:
-            written[name] += job.draw(name)[1]
+            written[name] += job.draw(name, formats)[1]
     rank = {fmt: k for k, fmt in enumerate(figures.FORMATS)}
     return {n: sorted((Path(p) for p in paths), key=lambda p: rank[p.suffix[1:]])
             for n, paths in written.items()}
@@ -212,15 +227,17 @@ class OtherFilesJob:
             self.dimension_system, files, self.data, figure_sizes)
         return content, report_pdf.lay_out(content, self.staging / REPORT_PDF_FILE)
 
-    def place_report_figures(self, placed) -> None:
-        """The figures' own PDF pages put into report.pdf where it left room."""
-        report_pdf.stamp_figures(self.staging / REPORT_PDF_FILE, placed)
+    def place_report_figures(self, placed, vector=False) -> None:
+        """The figures put into report.pdf where it left room: their PNG pixels
+        as they are, or with ``vector`` their own PDF pages."""
+        report_pdf.stamp_figures(self.staging / REPORT_PDF_FILE, placed, vector)
 
 
 # -- the whole set ------------------------------------------------------------------
 
 def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
-                  dimension_system=None, stamp=None, workers=None, stop=None) -> Path:
+                  dimension_system=None, stamp=None, workers=None, stop=None,
+                  vector_figures=False) -> Path:
     """Write results, figures, exports and the report, whole or not at all.
 
     Parameters
@@ -244,6 +261,9 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
     stop : bridgecalc.outputs.folder.StopRequest, optional
         A stop asked for by a signal: once it is set, nothing is put in place
         (:func:`.folder.staged_folder`).
+    vector_figures : bool
+        Write each figure as SVG and PDF too (the command line's
+        ``--vector-figures``); report.pdf then carries the vector figures.
 
     Returns
     -------
@@ -265,19 +285,20 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
             # the figures' names and sizes need no matplotlib: the helper lays out
             # report.pdf while matplotlib loads here for the figures themselves
             from . import exports
-            from .figures import FORMATS, figure_names, figure_size
+            from .figures import figure_formats, figure_names, figure_size
+            formats = figure_formats(vector_figures)
             names = list(figure_names(result))
             pngs = {n: staging / f"{n}.png" for n in names}
             sizes = {n: figure_size(n, result) for n in names}
             files = [RESULTS_FILE, exports.CSV_FILE, exports.VTU_FILE, REPORT_FILE,
-                     REPORT_PDF_FILE] + [f"{n}.{fmt}" for n in names for fmt in FORMATS]
+                     REPORT_PDF_FILE] + [f"{n}.{fmt}" for n in names for fmt in formats]
             if exports.several_pairs(data):
                 files.insert(2, exports.COUPLINGS_FILE)
             pages = helper.submit("lay_out_report", pngs, sizes, files)
-            draw_figures(result, staging, isotherm_step, f_rsi_min, workers)
+            draw_figures(result, staging, isotherm_step, f_rsi_min, workers, formats)
             exports_written.result()
             content, placed = pages.result()
-            figures_in = helper.submit("place_report_figures", placed)
+            figures_in = helper.submit("place_report_figures", placed, vector_figures)
             (staging / REPORT_FILE).write_text(render_html(content), encoding="utf-8")
             figures_in.result()
     return out_dir

@@ -16,9 +16,17 @@ import pytest
 from bridgecalc.outputs import exports
 from bridgecalc.results import heat_flux_density, interior_surface_profiles
 
-# Demo wall (geometries/slab_edge.py defaults): clay masonry 240 mm, λ 0.7;
-# EPS 160 mm, λ 0.035; from the scenario's material table.
+# The scenario's external wall (geometries/slab_edge.py defaults): clay masonry
+# 240 mm, λ 0.7; EPS 160 mm, λ 0.035; from the scenario's material table.
 WALL = [(0.240, 0.7), (0.160, 0.035)]
+
+
+@pytest.fixture(scope="module")
+def slab_edge(geometries):
+    """The slab edge, whose wall is one-dimensional 1 m from the slab (the demo's
+    balcony slab still bends the flow there by 2 %)."""
+    from bridgecalc.api import load, run
+    return run(load(geometries / "slab_edge.py"))
 
 
 def u_plane(rsi, rse=0.04):
@@ -45,22 +53,23 @@ def test_vtu_reads_back_as_the_solution(demo, tmp_path):
     assert np.allclose(k, [demo.model.materials[names[i]].conductivity for i in index])
 
 
-def test_heat_flux_far_from_the_slab_is_the_one_dimensional_u_times_dt(demo):
-    # Fourier's law and ISO 6946 U (Rsi 0.13, Rse 0.04) of the demo wall
-    q = heat_flux_density(demo.model, demo.heat_flow_case.field)
-    xy = demo.mesh.nodes / demo.model.metres_per_unit
-    centroid = xy[demo.mesh.triangles].mean(axis=1)
+def test_heat_flux_far_from_the_slab_is_the_one_dimensional_u_times_dt(slab_edge):
+    # Fourier's law and ISO 6946 U (Rsi 0.13, Rse 0.04) of the scenario's wall
+    q = heat_flux_density(slab_edge.model, slab_edge.heat_flow_case.field)
+    xy = slab_edge.mesh.nodes / slab_edge.model.metres_per_unit
+    centroid = xy[slab_edge.mesh.triangles].mean(axis=1)
     far = centroid[:, 1] > 1300          # > 1 m above the slab top (220 mm)
     expected = u_plane(0.13) * 20.0      # θi − θe = 20 K
     assert np.allclose(q[far, 0], expected, rtol=0.01)
     assert np.all(np.abs(q[far, 1]) < 0.01 * expected)
 
 
-def test_surface_profile_runs_follow_the_interior_surfaces(demo):
-    profiles = interior_surface_profiles(demo.model, demo.surface_temperature_case.field)
+def test_surface_profile_runs_follow_the_interior_surfaces(slab_edge):
+    profiles = interior_surface_profiles(slab_edge.model,
+                                         slab_edge.surface_temperature_case.field)
     assert len(profiles) == 2           # broken by the slab's cut-off plane in the room
     first = profiles[0]
-    np.testing.assert_allclose(first.points[0], demo.model.surfaces[0].path[0])
+    np.testing.assert_allclose(first.points[0], slab_edge.model.surfaces[0].path[0])
     # wall above (1200 mm) + floor (1000 mm), from the model's paths
     assert first.arc_length[-1] == pytest.approx(2200.0)
     assert set(first.surface) == {0, 1}
@@ -68,7 +77,7 @@ def test_surface_profile_runs_follow_the_interior_surfaces(demo):
     expected = 20.0 - 0.25 * u_plane(0.25) * 20.0
     assert first.temperature[0] == pytest.approx(expected, abs=0.02)
     lowest = min(p.temperature.min() for p in profiles)
-    assert lowest == pytest.approx(demo.theta_si_min, abs=1e-9)   # P1: nodes hold the extremes
+    assert lowest == pytest.approx(slab_edge.theta_si_min, abs=1e-9)   # P1: nodes hold the extremes
 
 
 def test_csv_row_carries_the_headline_numbers(demo):

@@ -118,8 +118,8 @@ def test_mesh_figure_shows_each_boundary_condition_and_surface(demo):
 def test_files_are_300_dpi_non_blank_and_repeatable(demo, tmp_path):
     fig = figures.build_figure("surface_temperature", demo, f_rsi_min=0.7)
     try:
-        first = figures.save(fig, tmp_path / "a")
-        second = figures.save(fig, tmp_path / "b")
+        first = figures.save(fig, tmp_path / "a", figures.FORMATS)
+        second = figures.save(fig, tmp_path / "b", figures.FORMATS)
     finally:
         figures.plt.close(fig)
     assert [p.suffix for p in first] == [".png", ".svg", ".pdf"]
@@ -228,7 +228,7 @@ def test_field_sampling_reproduces_a_linear_field_exactly(demo):
     cells = raster.cells_on_grid(xy, demo.mesh.triangles, gx, gy)
     px, py = np.meshgrid(gx, gy)
     inside = cells >= 0
-    assert 0.2 < inside.mean() < 0.9
+    assert 0.1 < inside.mean() < 0.9
     # points beyond the bounding box of the section lie in no triangle
     outside_box = (px < lo[0]) | (px > hi[0]) | (py < lo[1]) | (py > hi[1])
     assert not inside[outside_box].any()

@@ -25,10 +25,21 @@ def written(demo, tmp_path_factory):
 def test_every_output_file_is_written(written):
     names = {p.name for p in written.iterdir()}
     expected = {"results.json", "results.csv", "field.vtu", "report.html", "report.pdf"}
-    expected |= {f"{n}.{ext}" for n in ("materials", "mesh", "temperature", "heat_flux",
-                                         "surface_temperature") for ext in ("png", "svg", "pdf")}
+    expected |= {f"{n}.png" for n in ("materials", "mesh", "temperature", "heat_flux",
+                                      "surface_temperature")}
     assert names == expected
     assert not [p for p in written.parent.iterdir() if p.name.startswith(".")]
+
+
+def test_vector_figures_on_request(demo, tmp_path):
+    """--vector-figures adds an SVG and a PDF of every figure, and report.pdf
+    then carries the figures' vector pages (their text is text in it)."""
+    out = tmp_path / "vector"
+    write.write_outputs(demo, out, stamp=HAND_STAMP, workers=1, vector_figures=True)
+    names = {p.name for p in out.iterdir()}
+    for stem in ("materials", "mesh", "temperature", "heat_flux", "surface_temperature"):
+        assert {f"{stem}.png", f"{stem}.svg", f"{stem}.pdf"} <= names
+    assert "θsi,min" in (out / "temperature.svg").read_text(encoding="utf-8")
 
 
 def test_bad_options_write_nothing(demo, tmp_path):

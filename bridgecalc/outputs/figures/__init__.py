@@ -1,7 +1,8 @@
 """Figures for envelope submissions; they plot results and never recompute physics.
 
 Five figures, each a :class:`matplotlib.figure.Figure` built by one function
-and written as PNG (300 dpi), SVG and PDF by :func:`write_figures`:
+and written as PNG (300 dpi), and on request SVG and PDF too, by
+:func:`write_figures`:
 
 ``materials``, ``mesh``
     the section as drawn (:mod:`.section`).
@@ -35,8 +36,8 @@ from importlib import import_module
 from pathlib import Path
 from types import MappingProxyType
 
-from .catalogue import (DETAIL_FIGURES, FIGURES, FORMATS, PAGE_WIDTH, PNG_DPI, detail_window,
-                        figure_names, figure_size)
+from .catalogue import (DEFAULT_FORMATS, DETAIL_FIGURES, FIGURES, FORMATS, PAGE_WIDTH, PNG_DPI,
+                        detail_window, figure_formats, figure_names, figure_size)
 
 #: The module of each name that needs matplotlib, loaded when the name is
 #: first used (PEP 562 module ``__getattr__``).
@@ -51,8 +52,8 @@ _DRAWING = MappingProxyType({
     "save": "files", "prepare": "files",
 })
 
-__all__ = ("FIGURES", "DETAIL_FIGURES", "FORMATS", "PNG_DPI", "PAGE_WIDTH", "figure_names",
-           "figure_size", "detail_window", "build_figure", "write_figures", *_DRAWING)
+__all__ = ("FIGURES", "DETAIL_FIGURES", "FORMATS", "DEFAULT_FORMATS", "PNG_DPI", "PAGE_WIDTH",
+           "figure_formats", "figure_names", "figure_size", "detail_window", "build_figure", "write_figures", *_DRAWING)
 
 
 def __getattr__(name: str):
@@ -82,7 +83,7 @@ def build_figure(name: str, result, **options):
 
 
 def write_figures(result, folder, isotherm_step=None, f_rsi_min=None,
-                  formats=FORMATS, dpi=PNG_DPI) -> dict:
+                  formats=DEFAULT_FORMATS, dpi=PNG_DPI) -> dict:
     """Build and write every figure into ``folder``.
 
     Parameters

@@ -19,9 +19,20 @@ FIGURES = ("materials", "mesh", "temperature", "heat_flux", "surface_temperature
 #: Figures of the junction's detail window, when there is one; each follows
 #: its view of the whole section.
 DETAIL_FIGURES = ("materials_detail", "temperature_detail")
-#: The files of each figure, in this order, and the resolution of the PNG [1/in].
+#: Every file a figure can be written as, in this order, and the resolution of
+#: the PNG [1/in].
 FORMATS = ("png", "svg", "pdf")
 PNG_DPI = 300
+#: What a run writes of each figure by default: the PNG, drawn once and used by
+#: report.html and report.pdf alike. The vector files cost as much again to draw
+#: and are written on request (``vector_figures``, ``--vector-figures``).
+DEFAULT_FORMATS = ("png",)
+
+
+def figure_formats(vector: bool = False) -> tuple[str, ...]:
+    """The files of each figure: :data:`DEFAULT_FORMATS`, or with ``vector`` every
+    one of :data:`FORMATS`."""
+    return FORMATS if vector else DEFAULT_FORMATS
 
 
 def figure_names(result) -> tuple[str, ...]:

@@ -1,4 +1,5 @@
-"""Writing a figure as PNG (300 dpi), SVG and PDF, the same bytes for the same input."""
+"""Writing a figure as PNG (300 dpi), and on request SVG and PDF, the same bytes
+for the same input."""
 
 from __future__ import annotations
 
@@ -8,7 +9,7 @@ from pathlib import Path
 import numpy as np
 from PIL import Image
 
-from .catalogue import FORMATS, PNG_DPI
+from .catalogue import DEFAULT_FORMATS, PNG_DPI
 from .style import STYLE, plt
 
 #: Resolution of the shaded fields inside SVG and PDF figures; lines and text
@@ -42,15 +43,17 @@ def _defer_import(name: str) -> None:
         setattr(importlib.import_module(package), short, module)
 
 
-def prepare() -> None:
-    """Import the SVG and PDF writers and load the fonts, ahead of drawing.
+def prepare(vector: bool = True) -> None:
+    """Load the fonts, and with ``vector`` import the SVG and PDF writers, ahead
+    of drawing.
 
     Done once before figure workers are forked, they share it instead of
     each doing it again.
     """
-    _defer_import("fontTools.subset")
-    import matplotlib.backends.backend_pdf  # noqa: F401
-    import matplotlib.backends.backend_svg  # noqa: F401
+    if vector:
+        _defer_import("fontTools.subset")
+        import matplotlib.backends.backend_pdf  # noqa: F401
+        import matplotlib.backends.backend_svg  # noqa: F401
     from matplotlib import font_manager
     for weight in ("normal", "bold"):
         font_manager.get_font(font_manager.findfont(
@@ -115,8 +118,9 @@ def _render_png(fig, dpi: float) -> bytes:
     return _png(image, dpi)
 
 
-def save(fig, stem: Path, formats=FORMATS, dpi=PNG_DPI) -> list[Path]:
-    """Write ``fig`` as ``stem.png`` (``dpi`` [1/in]), ``stem.svg`` and ``stem.pdf``.
+def save(fig, stem: Path, formats=DEFAULT_FORMATS, dpi=PNG_DPI) -> list[Path]:
+    """Write ``fig`` as ``stem.png`` (``dpi`` [1/in]), and as ``stem.svg`` and
+    ``stem.pdf`` when ``formats`` names them.
 
     Metadata that would change from run to run (dates, versions) is left
     out, so the same input gives the same files.

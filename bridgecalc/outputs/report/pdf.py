@@ -190,13 +190,12 @@ def _flowables(report: Report, width: float, placed: list):
                 with PILImage.open(block.png) as im:
                     fig_w, fig_h = im.size
             height = width * fig_h / fig_w
-            vector = block.png.with_suffix(".pdf")
             max_height = 21.0 * 72 / 2.54        # leave room for the caption on an A4 page
             w = width
             if height > max_height:
                 w, height = width * max_height / height, max_height
             out.append(KeepTogether(([heading] if heading is not None else [])
-                                    + [_Placeholder(vector, w, height, placed),
+                                    + [_Placeholder(block.png, w, height, placed),
                                        Paragraph(_text(block.caption), s["caption"])]))
             heading = None
         else:
@@ -206,9 +205,9 @@ def _flowables(report: Report, width: float, placed: list):
     return out
 
 
-def _Placeholder(vector_pdf: Path, width: float, height: float, placed: list):
-    """Space for a figure; records where it lands so the figure's own vector PDF
-    page can be stamped there afterwards (no image re-encoding)."""
+def _Placeholder(png: Path, width: float, height: float, placed: list):
+    """Space for a figure; records where it lands so the figure (its PNG's pixels,
+    or its own vector PDF page) can be stamped there afterwards."""
     from reportlab.platypus import Flowable
 
     class Placeholder(Flowable):
@@ -219,16 +218,66 @@ def _Placeholder(vector_pdf: Path, width: float, height: float, placed: list):
         def draw(self):
             x, y = self.canv.absolutePosition(0, 0)
             placed.append((self.canv.getPageNumber() - 1, x, y, self.width, self.height,
-                           vector_pdf))
+                           png))
 
     return Placeholder()
 
 
-def stamp_figures(path, placed: list) -> None:
-    """Put each figure's PDF page into the report at ``path`` where :func:`lay_out`
-    left room for it, scaled to fit.
+def png_image(png: Path, writer):
+    """A PNG file as a PDF image XObject added to ``writer``; returns its
+    reference and its size in pixels.
 
-    The figure page becomes a form XObject whose content stream is copied as it
+    An 8-bit RGB or grey PNG without interlacing goes in as it is: its IDAT
+    chunks are a zlib stream of scanlines, each with its PNG filter byte,
+    which is what PDF's FlateDecode with the PNG predictors (``/Predictor
+    15``) reads (ISO 32000-1, 7.4.4.4). Nothing is decoded or compressed
+    again: report.pdf shares the figure's PNG with report.html. Any other
+    PNG is decoded by Pillow, laid on white, and compressed.
+    """
+    import struct
+    import zlib
+    from pypdf.generic import (DictionaryObject, EncodedStreamObject,
+                               NameObject, NumberObject)
+    data = Path(png).read_bytes()
+    chunks, at = [], 8
+    while at + 8 <= len(data):
+        length, kind = struct.unpack(">I4s", data[at:at + 8])
+        chunks.append((kind, data[at + 8:at + 8 + length]))
+        at += 12 + length
+    header = dict(chunks).get(b"IHDR", b"")
+    width, height, depth, colour, _, _, interlace = struct.unpack(">IIBBBBB", header)
+    colours = {0: 1, 2: 3}.get(colour)
+    image = EncodedStreamObject()
+    if depth == 8 and colours is not None and interlace == 0:
+        image._data = b"".join(body for kind, body in chunks if kind == b"IDAT")
+        image[NameObject("/DecodeParms")] = DictionaryObject({
+            NameObject("/Predictor"): NumberObject(15),
+            NameObject("/Colors"): NumberObject(colours),
+            NameObject("/BitsPerComponent"): NumberObject(8),
+            NameObject("/Columns"): NumberObject(width)})
+    else:
+        from PIL import Image
+        with Image.open(png) as opened:
+            rgba = opened.convert("RGBA")
+        flat = Image.new("RGB", rgba.size, "white")
+        flat.paste(rgba, mask=rgba.getchannel("A"))
+        colours = 3
+        image._data = zlib.compress(flat.tobytes(), 6)
+    image.update({
+        NameObject("/Type"): NameObject("/XObject"), NameObject("/Subtype"): NameObject("/Image"),
+        NameObject("/Width"): NumberObject(width), NameObject("/Height"): NumberObject(height),
+        NameObject("/ColorSpace"): NameObject("/DeviceRGB" if colours == 3 else "/DeviceGray"),
+        NameObject("/BitsPerComponent"): NumberObject(8),
+        NameObject("/Filter"): NameObject("/FlateDecode")})
+    return writer._add_object(image), (width, height)
+
+
+def stamp_figures(path, placed: list, vector: bool = False) -> None:
+    """Put each figure into the report at ``path`` where :func:`lay_out` left
+    room for it, scaled to fit: its PNG's pixels (:func:`png_image`), or with
+    ``vector`` its own PDF page beside the PNG.
+
+    A figure page becomes a form XObject whose content stream is copied as it
     is (still compressed), so nothing is parsed or re-encoded.
     """
     path = Path(path)
@@ -236,8 +285,24 @@ def stamp_figures(path, placed: list) -> None:
     from pypdf.generic import (ArrayObject, DecodedStreamObject, DictionaryObject,
                                FloatObject, NameObject)
     writer = PdfWriter(clone_from=PdfReader(path))
-    for k, (page_index, x, y, width, height, figure_pdf) in enumerate(placed):
-        figure = PdfReader(figure_pdf).pages[0]
+    for k, (page_index, x, y, width, height, png) in enumerate(placed):
+        page = writer.pages[page_index]
+        resources = page["/Resources"].get_object()
+        if "/XObject" not in resources:
+            resources[NameObject("/XObject")] = DictionaryObject()
+        name = f"/BridgecalcFigure{k}"
+        draw = DecodedStreamObject()
+        if not vector:
+            image_ref, (pw, ph) = png_image(png, writer)
+            resources["/XObject"].get_object()[NameObject(name)] = image_ref
+            scale = min(width / pw, height / ph)
+            draw.set_data(f"q {pw * scale:.4f} 0 0 {ph * scale:.4f} {x:.4f} "
+                          f"{y + height - ph * scale:.4f} cm {name} Do Q".encode("ascii"))
+            old = page["/Contents"]
+            parts = list(old.get_object()) if isinstance(old.get_object(), ArrayObject) else [old]
+            page[NameObject("/Contents")] = ArrayObject(parts + [writer._add_object(draw)])
+            continue
+        figure = PdfReader(Path(png).with_suffix(".pdf")).pages[0]
         box = [float(v) for v in figure.mediabox]
         fw, fh = box[2] - box[0], box[3] - box[1]
         scale = min(width / fw, height / fh)
@@ -253,13 +318,7 @@ def stamp_figures(path, placed: list) -> None:
         form[NameObject("/BBox")] = ArrayObject([FloatObject(v) for v in box])
         form[NameObject("/Resources")] = figure["/Resources"].clone(writer)
         form_ref = writer._add_object(form)
-        page = writer.pages[page_index]
-        resources = page["/Resources"].get_object()
-        if "/XObject" not in resources:
-            resources[NameObject("/XObject")] = DictionaryObject()
-        name = f"/BridgecalcFigure{k}"
         resources["/XObject"].get_object()[NameObject(name)] = form_ref
-        draw = DecodedStreamObject()
         draw.set_data(f"q {scale:.6f} 0 0 {scale:.6f} {x - box[0] * scale:.4f} "
                       f"{y - box[1] * scale:.4f} cm {name} Do Q".encode("ascii"))
         old = page["/Contents"]
@@ -270,15 +329,16 @@ def stamp_figures(path, placed: list) -> None:
         writer.write(handle)
 
 
-def write_pdf(report: Report, path) -> None:
-    """Lay out ``report`` on A4 pages and write it to ``path``, figures included."""
-    stamp_figures(path, lay_out(report, path))
+def write_pdf(report: Report, path, vector: bool = False) -> None:
+    """Lay out ``report`` on A4 pages and write it to ``path``, figures included
+    (their PNGs, or with ``vector`` the PDF files beside them)."""
+    stamp_figures(path, lay_out(report, path), vector)
 
 
 def lay_out(report: Report, path) -> list:
     """Write ``report`` to ``path`` with empty space where each figure goes.
 
-    Needs each figure's PNG, or its ``size``, but not its PDF yet.
+    Needs each figure's PNG, or its ``size``, but not the figure itself yet.
 
     Returns
     -------

@@ -1,0 +1,162 @@
+"""A whole `bridgecalc run`, every default output included, against a plain solve.
+
+(a) Reference Ψ of a held-out-like balcony (a concrete slab through 180 mm of
+    insulation, no thermal break: ``geometries/balcony.py`` with
+    ``thermal_break=false insulation_thickness_mm=180``): this tool's study at
+    tolerance 1e-5, printed with its error estimate.
+(b) Baseline: uniform gmsh meshes (one element size everywhere) + scikit-fem's
+    generic P1 assembly + SciPy ``spsolve``, heat-flow case only
+    (``bench_convergence.baseline_psi``), refined r = 1, 1.5, 2, 3, ... until
+    its Ψ is within 0.1 % of the reference. Reported: the one run that got
+    there, and the whole sequence (how a user without the reference would get
+    there).
+(c) ``bridgecalc run MODEL --set ... --out DIR`` as a user types it: a fresh
+    process, default tolerance, every default output (results.json, the
+    exports, the PNG figures, report.html, report.pdf), wall time from start
+    to exit, median of ``--repeats``. The split inside such a process (imports,
+    solve, outputs) is printed too.
+(d) The demo (``bridgecalc demo``'s junction): its solve alone and its solve
+    then every default output, each in fresh processes
+    (``bench_outputs.py``); the overhead of the outputs is the difference of
+    the medians.
+
+Ratios: baseline time / `bridgecalc run` time (target ≥ 10), and the demo's
+outputs beyond its solve (target < 1 s). Wall-clock seconds; other jobs on the
+machine inflate every figure (load average printed). Nothing is asserted.
+
+    python benchmarks/bench_run_speed.py [--repeats N] [--skip-reference PSI]
+"""
+
+from __future__ import annotations
+
+import argparse
+import datetime
+import importlib.util
+import json
+import platform
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+SETTINGS = {"thermal_break": False, "insulation_thickness_mm": 180.0}
+TARGET = 1e-3
+
+CHILD = r"""
+import json, sys, tempfile, time
+w0 = time.perf_counter()
+from pathlib import Path
+from bridgecalc import api
+w1 = time.perf_counter()
+model = api.load(sys.argv[1], [f"{k}={v}" for k, v in json.loads(sys.argv[2]).items()])
+result = api.run(model)
+w2 = time.perf_counter()
+with tempfile.TemporaryDirectory() as tmp:
+    api.write_outputs(result, Path(tmp) / "out")
+w3 = time.perf_counter()
+print(json.dumps({"imports": w1 - w0, "solve": w2 - w1, "outputs": w3 - w2}))
+"""
+
+
+def _sibling(name):
+    spec = importlib.util.spec_from_file_location(name, ROOT / "benchmarks" / f"{name}.py")
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module
+
+
+def load_average() -> str:
+    return " ".join(Path("/proc/loadavg").read_text().split()[:3])
+
+
+def command_time(script: Path, out: Path) -> float:
+    """Wall time [s] of ``bridgecalc run`` as a user types it."""
+    sets = [a for k, v in SETTINGS.items() for a in ("--set", f"{k}={str(v).lower()}")]
+    start = time.perf_counter()
+    subprocess.run([sys.executable, "-m", "bridgecalc", "run", str(script), *sets,
+                    "--out", str(out)], check=True, capture_output=True)
+    return time.perf_counter() - start
+
+
+def main() -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--repeats", type=int, default=3)
+    parser.add_argument("--skip-reference", type=float, metavar="PSI",
+                        help="use this reference Ψ instead of computing it (about 20 s)")
+    args = parser.parse_args()
+    from bridgecalc.api import load, run
+    from bridgecalc.solve import linsolve
+    print(f"{datetime.datetime.now():%Y-%m-%d %H:%M} {platform.machine()} Python "
+          f"{platform.python_version()}, solvers {', '.join(linsolve.backends())}, "
+          f"load average {load_average()}", flush=True)
+    script = ROOT / "geometries" / "balcony.py"
+    model = load(script, **SETTINGS)
+
+    # (a) the reference
+    if args.skip_reference is None:
+        start = time.perf_counter()
+        reference = run(model, tolerance=1e-5, max_nodes=3_000_000)
+        psi_ref = reference.psi
+        print(f"reference Ψ {psi_ref:.7f} W/(m·K) ± "
+              f"{reference.convergence.psi_error_estimate:.1e} "
+              f"({reference.mesh.node_count} nodes, {time.perf_counter() - start:.1f} s)",
+              flush=True)
+    else:
+        psi_ref = args.skip_reference
+        print(f"reference Ψ {psi_ref:.7f} W/(m·K) (given)")
+
+    # (b) the baseline's uniform sequence
+    convergence = _sibling("bench_convergence")
+    sequence, single, nodes = 0.0, None, None
+    for r in convergence.REFINEMENTS:
+        psi, nodes, seconds = convergence.baseline_psi(model, r)
+        sequence += seconds
+        error = abs(psi - psi_ref) / abs(psi_ref)
+        print(f"  baseline r = {r:<4} {nodes:>8} nodes {seconds:6.2f} s  Ψ {psi:.6f}  "
+              f"error {error:.1e}", flush=True)
+        if error <= TARGET:
+            single = seconds
+            break
+        if nodes > convergence.BASELINE_MAX_NODES / 2:
+            break
+
+    # (c) the whole command, then its split
+    with tempfile.TemporaryDirectory() as tmp:
+        walls = [command_time(script, Path(tmp) / f"run{k}") for k in range(args.repeats)]
+    wall = statistics.median(walls)
+    splits = []
+    for _ in range(args.repeats):
+        out = subprocess.run([sys.executable, "-c", CHILD, str(script), json.dumps(SETTINGS)],
+                             check=True, capture_output=True, text=True).stdout
+        splits.append(json.loads(out.strip().splitlines()[-1]))
+    split = {k: statistics.median(s[k] for s in splits) for k in splits[0]}
+    result = run(model)
+    error = abs(result.psi - psi_ref) / abs(psi_ref)
+    print(f"bridgecalc run (whole command, every default output): median {wall:.2f} s of "
+          f"{', '.join(f'{w:.2f}' for w in walls)}; Ψ {result.psi:.6f} (error {error:.1e}), "
+          f"{result.mesh.node_count} nodes")
+    print("  inside the process, medians: " + ", ".join(f"{k} {v:.2f} s"
+                                                       for k, v in split.items()))
+    if single is not None:
+        print(f"  speed-up against the baseline's run that reached 0.1 %: {single / wall:.1f}× "
+              f"(its whole sequence: {sequence / wall:.1f}×); target ≥ 10×")
+        inner = split["solve"] + split["outputs"]
+        print(f"  the same, counting solve and outputs only (no Python start-up, as the "
+              f"baseline): {single / inner:.1f}× ({sequence / inner:.1f}×)")
+    else:
+        print(f"  the baseline did not reach 0.1 % (sequence {sequence:.1f} s): speed-up more "
+              f"than {sequence / wall:.1f}×")
+
+    # (d) the demo's outputs beyond its solve
+    outputs = _sibling("bench_outputs")
+    overhead = outputs.measure(args.repeats)
+    print(f"demo: outputs beyond its solve {overhead:.2f} s (target < 1 s)")
+    print(f"load average at the end {load_average()}")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
