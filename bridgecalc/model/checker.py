@@ -36,10 +36,15 @@ def material_where(name) -> str:
 class Checker:
     """Raises ModelError with ``origin: where: message``."""
 
-    def __init__(self, origin: str):
+    def __init__(self, origin: str, places=()):
         self.origin = origin
+        # "regions[3]" -> where a drawing drew it (model format 1, addition C)
+        self.places = dict(places)
 
     def fail(self, where: str, message: str):
+        table = where.split(".", 1)[0]
+        if table in self.places:
+            where = f"{where} ({self.places[table]})"
         prefix = f"{self.origin}: {where}: " if where else f"{self.origin}: "
         raise ModelError(prefix + message)
 

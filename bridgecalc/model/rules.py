@@ -56,7 +56,8 @@ def validate(model: Model) -> None:
         At the first broken rule, naming the model's origin, the table (e.g.
         ``regions[3]``, counted from 0) and the key.
     """
-    check = Checker(getattr(model, "origin", "<model>"))
+    drawing = getattr(model, "drawing", None)
+    check = Checker(getattr(model, "origin", "<model>"), drawing.places if drawing else ())
     if not isinstance(model, Model):
         check.fail("", f"expected a bridgecalc Model, got {describe(model)}")
     version = model.format

@@ -252,6 +252,46 @@ class Probe:
     at: Point
 
 
+@dataclass(frozen=True)
+class DrawingSource:
+    """Where a model's regions and surface paths came from: a drawing (model
+    format 1, addition C). Not part of the model's content.
+
+    Attributes
+    ----------
+    file : str
+        The drawing's path as the model file gives it.
+    unit : str
+        The unit its coordinates were read in (``"mm"``, ``"cm"`` or ``"m"``).
+    unit_from : str
+        ``"header"`` ($INSUNITS), ``"unit"`` (the ``[drawing]`` key) or
+        ``"length_unit"`` (the model file's unit).
+    snap : float
+        Snapping tolerance used [length_unit].
+    warnings : tuple of str
+        What may be a slip in the drawing (units that disagree, ...).
+    places : tuple of (str, str)
+        ``("regions[3]", "drawing d.dxf, layer 'CONCRETE', entity 2F (HATCH)")``:
+        where each region and surface taken from the drawing was drawn, for
+        messages.
+    """
+
+    file: str
+    unit: str
+    unit_from: str
+    snap: float
+    warnings: tuple[str, ...] = ()
+    places: tuple[tuple[str, str], ...] = ()
+
+    def unit_text(self) -> str:
+        """The unit and where it came from, in words."""
+        origin = {"header": "from its header ($INSUNITS)",
+                  "unit": "from [drawing] unit; the header gives none",
+                  "length_unit": "the model's length_unit; neither header nor [drawing] "
+                                 "unit gives one"}[self.unit_from]
+        return f"{self.unit} ({origin})"
+
+
 @dataclass
 class Model:
     """One junction's cross-section with its boundary conditions.
@@ -278,6 +318,8 @@ class Model:
         The ISO 13788 surface-humidity check asked for (``[moisture]``).
     origin : str
         Where the model came from (a file path or a script), used in messages.
+    drawing : DrawingSource or None
+        The drawing the regions and surface paths were read from, if any.
     """
 
     length_unit: str
@@ -294,6 +336,8 @@ class Model:
     # a file and read back equals the original.
     origin: str = field(default="<model>", compare=False)
     format: int = FORMAT
+    # Set when regions or surface paths were read from a drawing (addition C).
+    drawing: DrawingSource | None = field(default=None, compare=False)
 
     @property
     def metres_per_unit(self) -> float:

@@ -21,18 +21,19 @@ from ..model.types import (FORMAT, LENGTH_UNITS, AirLayer, Environment, Flanking
                            Material, Model, Probe, Region, Surface, air_layer_material)
 from ..model.rules import check_air_layer, validate
 from .climate import moisture_text, read_moisture
+from . import drawing_table
 
 
 #: Keys each table of a format-1 file may hold (plus ``air_layer``, added by
 #: bridgecalc, see docs/model-format.md).
 TOP_LEVEL_KEYS = ("format", "name", "length_unit", "dimension_system", "materials", "regions",
-                  "environments", "surfaces", "flanking", "probes", "moisture")
+                  "environments", "surfaces", "flanking", "probes", "moisture", "drawing")
 MATERIAL_KEYS = ("conductivity", "source", "air_layer")
 AIR_LAYER_KEYS = ("thickness", "direction", "emissivities")
 REGION_KEYS = ("material", "rectangle", "polygon", "holes", "heat_source")
 ENVIRONMENT_KEYS = ("name", "temperature", "kind")
 SURFACE_KEYS = ("environment", "resistance", "resistance_surface_temperature", "path",
-                "assess")
+                "assess", "layer")
 FLANKING_KEYS = ("name", "between", "u_value", "length", "layers", "surface_resistances")
 LAYER_KEYS = ("material", "thickness")
 PROBE_KEYS = ("name", "at")
@@ -167,14 +168,26 @@ def loads(text: str, origin: str = "<string>") -> Model:
     for i, table in enumerate(_array_of_tables(check, data, "surfaces")):
         where = f"surfaces[{i}]"
         check.keys(table, SURFACE_KEYS, where)
-        path = check.points(_required(check, table, "path", where), f"{where}.path", 2,
-                            "a surface path")
-        surfaces.append(Surface(
+        if "layer" in table:            # the paths come from a drawing (addition C)
+            if "path" in table:
+                check.fail(where, "give either path or layer, not both")
+            if "drawing" not in data:
+                check.fail(f"{where}.layer", "takes its paths from a drawing; add a "
+                                             "[drawing] table naming it")
+            path = ()
+        else:
+            path = tuple(check.points(_required(check, table, "path", where), f"{where}.path",
+                                      2, "a surface path"))
+        surface = Surface(
             _required(check, table, "environment", where),
             _as_float(_required(check, table, "resistance", where)),
-            tuple(path),
+            path,
             _as_float(table.get("resistance_surface_temperature")),
-            table.get("assess", True)))
+            table.get("assess", True))
+        if "layer" in table:
+            surface = drawing_table.LayerSurface(
+                i, check.string(table["layer"], f"{where}.layer"), surface)
+        surfaces.append(surface)
 
     flanking = []
     for i, table in enumerate(_array_of_tables(check, data, "flanking")):
@@ -219,11 +232,16 @@ def loads(text: str, origin: str = "<string>") -> Model:
 
     moisture = (read_moisture(check, data["moisture"], origin, environments)
                 if "moisture" in data else None)
+    drawn = None
+    if "drawing" in data:               # regions and surface paths from a drawing (addition C)
+        drawn = drawing_table.read_table(check, data["drawing"], origin, unit, materials,
+                                         surfaces)
+        regions, surfaces = drawn.regions + regions, drawn.surfaces
     model = Model(length_unit=unit, materials=materials, regions=regions,
                   environments=environments, surfaces=surfaces, flanking=flanking,
                   probes=probes, name=data.get("name"),
                   dimension_system=data.get("dimension_system"), moisture=moisture,
-                  origin=origin, format=fmt)
+                  origin=origin, format=fmt, drawing=drawn.source if drawn else None)
     validate(model)
     return model
 
