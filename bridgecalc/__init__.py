@@ -13,7 +13,7 @@ fRsi (or, with more than two temperatures, the temperature weighting factors)::
 
 __version__ = "0.1.0"
 
-from .api import load, run  # noqa: E402
+from .api import export, load, run  # noqa: E402
 from .errors import BridgecalcError, ModelError  # noqa: E402
 from .model import (AirLayer, Environment, Flanking, Layer, Material, Model, Probe, Region,
                     Surface)
@@ -21,6 +21,6 @@ from .results import Result  # noqa: E402
 
 __all__ = (
     "BridgecalcError", "ModelError", "AirLayer", "Environment", "Flanking", "Layer",
-    "Material", "Model", "Probe", "Region", "Surface", "Result", "load", "run",
+    "Material", "Model", "Probe", "Region", "Surface", "Result", "export", "load", "run",
     "__version__",
 )

@@ -68,6 +68,21 @@ def load(path, settings=(), **params) -> Model:
     return read(path, **params)
 
 
+def export(model: Model, to) -> list[Path]:
+    """Write a model as a self-contained model file (``.toml``: regions as
+    polygons, surfaces as paths) or as a DXF drawing with the model file that
+    reads it (``.dxf``: one layer per material and per surface); see
+    :func:`bridgecalc.readers.export.export`.
+
+    Returns
+    -------
+    list of Path
+        The files written.
+    """
+    from .readers.export import export as write_model
+    return write_model(model, to)
+
+
 def geometries_folder() -> Path:
     """The junction library (geometry scripts) shipped with the package."""
     return Path(str(resources.files("bridgecalc.geometries")))

@@ -50,6 +50,22 @@ def _parser() -> argparse.ArgumentParser:
                      help="node budget of the mesh-convergence study (default 250000)")
     _report_options(run)
 
+    export = sub.add_parser(
+        "export", help="write a model as a self-contained model file or a DXF drawing",
+        description="Write the model a model file, drawing or geometry script describes: "
+                    "to OUT.toml as a self-contained model file (every region a polygon, "
+                    "every surface a path), or to OUT.dxf as a drawing with one layer per "
+                    "material (closed polylines, hatched) and one per surface, together "
+                    "with OUT.toml, the model file that reads it. Existing files of those "
+                    "names are replaced, except the model's own.",
+        epilog=library)
+    export.add_argument("model", metavar="MODEL", help="model file (.toml) or geometry "
+                        "script (.py)")
+    export.add_argument("--to", required=True, metavar="OUT.toml|OUT.dxf",
+                        help="file to write")
+    export.add_argument("--set", dest="assignments", metavar="NAME=VALUE", action="append",
+                        default=[], help="geometry script parameter (repeatable)")
+
     sub.add_parser("check", help="run the built-in validation cases against their "
                    "published references")
     demo = sub.add_parser("demo", help="compute the shipped demo junction")
@@ -135,6 +151,7 @@ def command_run(args, stop=None) -> int:
     if not source.exists():
         raise BridgecalcError(f"{source}: no such file")
     model = api.load(source, args.assignments)
+    _print_model_warnings(model)
     out_dir = Path(args.out) if args.out else api.fresh_folder(Path.cwd() / source.stem)
     check_out_folder(out_dir)
     _run_and_write(model, out_dir, args.element, args.refine, args, stop)
@@ -148,6 +165,24 @@ def command_demo(args, stop=None) -> int:
     _run_and_write(model, out_dir, args=args, stop=stop)
     print(f"report: {out_dir / api.report_file()}")
     return 0
+
+
+def command_export(args, stop=None) -> int:
+    source = Path(args.model)
+    if not source.exists():
+        raise BridgecalcError(f"{source}: no such file")
+    model = api.load(source, args.assignments)
+    _print_model_warnings(model)
+    for path in api.export(model, args.to):
+        print(f"wrote {path}")
+    return 0
+
+
+def _print_model_warnings(model) -> None:
+    """What reading the model found that may be a slip (a drawing's units)."""
+    drawing = getattr(model, "drawing", None)
+    for warning in drawing.warnings if drawing is not None else ():
+        print(f"warning: {warning}", file=sys.stderr)
 
 
 def command_check(args, stop=None) -> int:
@@ -189,7 +224,7 @@ def main(argv=None) -> int:
         previous = signal.signal(signal.SIGTERM, stop)
     try:
         return {"run": command_run, "demo": command_demo, "check": command_check,
-                "sweep": command_sweep}[args.command](args, stop)
+                "sweep": command_sweep, "export": command_export}[args.command](args, stop)
     except BridgecalcError as exc:
         print(f"error: {exc}", file=sys.stderr)
         return 2

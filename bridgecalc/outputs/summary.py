@@ -15,6 +15,8 @@ def run_summary(result, out_dir) -> str:
     lines = [f"{model.name or model.origin}",
              f"  mesh               {result.mesh.node_count} nodes, "
              f"{result.mesh.triangle_count} triangles, {result.element}"]
+    if getattr(model, "drawing", None) is not None:
+        lines.append(f"  drawing            {model.drawing.file}, read in {model.drawing.unit_text()}")
     if model.dimension_system:
         lines.append(f"  dimensions         {model.dimension_system} (flanking lengths, Ψ)")
     for name, flow in hf.heat_flow.items():

@@ -346,11 +346,20 @@ def _assignment(key: str, value) -> str:
     return f"{key_text(key)} = [\n{items}]"
 
 
-def dumps(model: Model) -> str:
+def dumps(model: Model, drawing: dict | None = None) -> str:
     """The model as the text of a format-1 model file.
 
     The model is validated first, so the text always reads back: ``loads(dumps(m))``
-    equals ``m``.
+    equals ``m``. A model read from a drawing is written self-contained, its
+    regions and surface paths as polygons and polylines.
+
+    Parameters
+    ----------
+    model : Model
+    drawing : dict, optional
+        ``{"table": [drawing] content, "surface_layers": [layer per surface]}``
+        (:func:`bridgecalc.readers.dxf_writer.write_drawing`): the file then takes
+        its regions and surface paths from that drawing instead.
 
     Raises
     ------
@@ -360,6 +369,9 @@ def dumps(model: Model) -> str:
     validate(model)
     out = ["# bridgecalc model file; lengths in " + model.length_unit,
            f"format = {model.format}"]
+    if model.drawing is not None and drawing is None:
+        out.insert(1, f"# regions and surface paths as read from the drawing "
+                      f"{model.drawing.file} in {model.drawing.unit}")
     if model.name is not None:
         out.append(_assignment("name", model.name))
     out.append(_assignment("length_unit", model.length_unit))
@@ -376,7 +388,9 @@ def dumps(model: Model) -> str:
             out.append(_assignment("air_layer", {
                 "thickness": air.thickness, "direction": air.direction,
                 "emissivities": list(air.emissivities)}))
-    for region in model.regions:
+    if drawing is not None:
+        out += ["", "[drawing]"] + [_assignment(k, v) for k, v in drawing["table"].items()]
+    for region in model.regions if drawing is None else ():
         out += ["", "[[regions]]", _assignment("material", region.material)]
         if region.shape == "rectangle":
             (x0, y0), (x1, y1) = region.vertices[0], region.vertices[2]
@@ -390,13 +404,16 @@ def dumps(model: Model) -> str:
     for env in model.environments:
         out += ["", "[[environments]]", _assignment("name", env.name),
                 _assignment("temperature", env.temperature), _assignment("kind", env.kind)]
-    for surf in model.surfaces:
+    for k, surf in enumerate(model.surfaces):
         out += ["", "[[surfaces]]", _assignment("environment", surf.environment),
                 _assignment("resistance", surf.resistance)]
         if surf.resistance_surface_temperature is not None:
             out.append(_assignment("resistance_surface_temperature",
                                    surf.resistance_surface_temperature))
-        out.append(_assignment("path", [list(p) for p in surf.path]))
+        if drawing is None:
+            out.append(_assignment("path", [list(p) for p in surf.path]))
+        else:
+            out.append(_assignment("layer", drawing["surface_layers"][k]))
         if not surf.assess:
             out.append(_assignment("assess", False))
     for flank in model.flanking:

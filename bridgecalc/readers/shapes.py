@@ -27,8 +27,9 @@ user would call the same shape the same way:
    style 1 fills only the outermost level and its islands, style 2 ignores
    islands); outlines on one layer nest the same way, so a closed outline
    inside another on the same layer is a hole in it.
-6. **Orientation**: outlines are stored counter-clockwise, holes clockwise,
-   whichever way they were drawn.
+6. **Orientation**: either way round is the same shape; rings keep the
+   direction and first vertex they were drawn with (so a drawing the tool
+   wrote reads back to the very same polygons).
 
 Within a layer all shapes are one material, so their order among themselves
 does not change the model; layers are drawn in the order the model file
@@ -357,19 +358,13 @@ def _nested_shapes(layer, rings, polys, pts, snap, style) -> list[Shape]:
         filled = d % 2 == 0 if style == 0 else d == 0
         if filled:
             shapes[k] = Shape(layer, ring.piece.source, ring.piece.order,
-                              _oriented(pts[ring.points], ccw=True), [])
+                              pts[ring.points], [])
     for k, ring in enumerate(rings):
         d = depth[k]
         is_hole = (d % 2 == 1) if style == 0 else (d == 1 and style == 1)
         if is_hole and parent[k] in shapes:
-            shapes[parent[k]].holes.append(_oriented(pts[ring.points], ccw=False))
+            shapes[parent[k]].holes.append(pts[ring.points])
     return list(shapes.values())
-
-
-def _oriented(ring: np.ndarray, ccw: bool) -> np.ndarray:
-    x, y = ring[:, 0], ring[:, 1]
-    area2 = np.dot(x, np.roll(y, -1)) - np.dot(y, np.roll(x, -1))
-    return ring if (area2 > 0) == ccw else ring[::-1]
 
 
 # -- surface paths -----------------------------------------------------------------------

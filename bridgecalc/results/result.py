@@ -106,6 +106,11 @@ class Result:
         out["surface_temperature_case"] = self.surface_temperature_case.to_dict()
         if self.convergence is not None:
             out["convergence"] = self.convergence.to_dict()
+        if getattr(model, "drawing", None) is not None:     # addition C: which unit was used
+            out["drawing"] = {"file": model.drawing.file, "unit": model.drawing.unit,
+                              "unit_from": model.drawing.unit_from,
+                              "snap": model.drawing.snap,
+                              "warnings": list(model.drawing.warnings)}
         if self.warnings:
             out["warnings"] = list(self.warnings)
         if self.assessment is not None:
