@@ -155,6 +155,14 @@ def open_drawing(path: Path, where: str):
     if path.is_dir():
         raise DrawingError(f"{where}: {os.fspath(path)} is a folder, not a drawing")
     try:
+        is_dxf = ezdxf.is_dxf_file(os.fspath(path))
+    except OSError as exc:
+        raise DrawingError(f"{where}: cannot read the drawing {os.fspath(path)} "
+                           f"({exc.strerror or exc})") from None
+    if not is_dxf:
+        raise DrawingError(f"{where}: {os.fspath(path)} is not a DXF drawing; save it from "
+                           f"the CAD program as DXF")
+    try:
         return ezdxf.readfile(path)
     except OSError as exc:
         raise DrawingError(f"{where}: cannot read the drawing {os.fspath(path)} "
@@ -373,7 +381,7 @@ def curve_points(entity, distance: float, source: Source, where: str) -> tuple[n
         return (_closed_ring(pts), True) if full else (pts, False)
     if kind == "SPLINE":
         try:
-            pts = _xy(entity.flattening(distance / 2))
+            pts = _xy(spline_points(entity.construction_tool(), distance / 2))
         except Exception as exc:
             _unreadable(source, where, f"the spline cannot be evaluated ({exc})")
         closed = bool(entity.closed) or (len(pts) > 2 and np.allclose(pts[0], pts[-1],
@@ -429,6 +437,45 @@ def bulge_points(vertices, closed: bool, distance: float) -> list:
     return out
 
 
+def spline_points(spline, distance: float):
+    """Points of a B-spline (ezdxf ``BSpline``) within ``distance`` of it.
+
+    A clamped knot vector (what most CAD programs write) goes to ezdxf's own
+    ``BSpline.flattening``. A closed spline written with an unclamped
+    (periodic) knot vector is defined only between knots p and n (degree p,
+    n control points; Piegl & Tiller, The NURBS Book, 2nd ed., §2.2, from
+    memory): the same adaptive subdivision of each knot span as ezdxf's,
+    restricted to that range.
+    """
+    from ezdxf.math import distance_point_line_3d
+
+    knots = np.asarray(spline.knots(), dtype=float)
+    p, n = spline.degree, spline.count
+    lo, hi = knots[p], knots[n]
+    if lo == knots[0] and hi == knots[-1]:
+        yield from spline.flattening(distance)
+        return
+    evaluator = spline.evaluator
+    spans = np.unique(knots[(knots >= lo) & (knots <= hi)])
+
+    def subdivide(s, e, t0, t1, depth=0):
+        m = evaluator.point(0.5 * (t0 + t1))
+        gap = 0.0 if s.isclose(e) else distance_point_line_3d(m, s, e)
+        if gap < distance or depth > 30:
+            yield e
+        else:
+            yield from subdivide(s, m, t0, 0.5 * (t0 + t1), depth + 1)
+            yield from subdivide(m, e, 0.5 * (t0 + t1), t1, depth + 1)
+
+    start = evaluator.point(spans[0])
+    yield start
+    for t0, t1 in zip(spans[:-1], spans[1:]):
+        for a, b in zip(np.linspace(t0, t1, 5)[:-1], np.linspace(t0, t1, 5)[1:]):
+            end = evaluator.point(b)
+            yield from subdivide(start, end, a, b)
+            start = end
+
+
 def hatch_rings(hatch, distance: float, source: Source, where: str) -> list:
     """Every boundary path of a hatch as a closed ring in world coordinates."""
     from ezdxf.entities.boundary_paths import EdgePath, PolylinePath
@@ -472,7 +519,7 @@ def edge_path_points(boundary, distance: float, source: Source, where: str, inde
                 else:
                     from ezdxf.math import fit_points_to_cad_cv
                     spline = fit_points_to_cad_cv(edge.fit_points)
-                pts = list(spline.flattening(distance / 2))
+                pts = list(spline_points(spline, distance / 2))
             except Exception as exc:
                 _unreadable(source, where, f"a spline edge of boundary path {index} cannot "
                                            f"be evaluated ({exc})")

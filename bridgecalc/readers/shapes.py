@@ -481,6 +481,10 @@ def build(material_layers: list[str], surface_layers: list[str], pieces: dict, s
         pts = snap_vertices_to_edges(pts, rings, snap)
     for ring in rings:
         cleaned = clean_ring(ring.points)
+        if len(set(cleaned)) >= 3 and not _polygon(pts, cleaned).is_valid:
+            reason = shapely.is_valid_reason(_polygon(pts, cleaned))
+            _fail(where, ring.piece.source, f"its outline crosses or touches itself ({reason}); "
+                                            f"draw it as a simple closed outline")
         if len(set(cleaned)) < 3 or abs(_polygon(pts, cleaned).area) <= 0:
             _fail(where, ring.piece.source,
                   f"collapses to a line or a point at the snapping tolerance {snap:g} "
