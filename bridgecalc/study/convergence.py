@@ -67,7 +67,7 @@ from ..errors import ModelError
 from ..mesh import Mesh, MeshOptions, build_mesh, refine
 from ..model import Model
 from ..solve.cases import UnitCases, conditions, solve_cases
-from . import indicators
+from . import bounds, indicators
 from .extrapolation import (OSCILLATION_FACTOR, ORDER_RANGE, ROUND_OFF, SAFETY_FACTOR,
                             UNCONFIRMED_FACTOR, Extrapolation, coupling_from_energies,
                             extrapolate)
@@ -205,6 +205,7 @@ def converge(model: Model, mesh_options: MeshOptions | None, element: str, toler
                 + ("" if iso_ok else "; the ISO 10211 doubling check is not met"))
             break
         mesh = finer
+    _attach_bounds(study, cases, side, flanking_ul)
     # θsi,min is reported with an estimate; it does not decide when to stop
     study.theta_si_min = extrapolate([lv.nodes for lv in study.levels],
                                      [lv.theta_si_min for lv in study.levels],
@@ -243,6 +244,22 @@ def _extrapolate(study: ConvergenceStudy, model: Model, side, energies: dict,
         if None in flanking_ul:
             study.psi = Extrapolation(cc.value - flanking_ul[None], cc.error_estimate,
                                       cc.order, cc.fitted)
+
+
+def _attach_bounds(study: ConvergenceStudy, cases: UnitCases, side, flanking_ul: dict) -> None:
+    """The guaranteed intervals of the finest mesh (:mod:`bridgecalc.study.bounds`)."""
+    reason = bounds.unavailable_reason(cases)
+    if reason is not None:
+        study.bounds_note = reason
+        return
+    found = bounds.coupling_bounds(cases, side)
+    study.coupling_coefficient_bounds = found.coupling_coefficient
+    if found.coupling_coefficient is not None and None in flanking_ul:
+        study.psi_bounds = found.coupling_coefficient.shifted(flanking_ul[None])
+    study.couplings_bounds = dict(found.couplings)
+    study.pair_psi_bounds = {pair: interval.shifted(flanking_ul[pair])
+                             for pair, interval in found.couplings.items()
+                             if pair in flanking_ul}
 
 
 def _noise(imbalance: list) -> float:

@@ -150,6 +150,13 @@ class ConvergenceStudy:
         Ψ_ij of the pairs that flanking elements name [W/(m·K)].
     theta_si_min : Extrapolation or None
         θsi,min [°C]; reported, not a stopping criterion.
+    coupling_coefficient_bounds, psi_bounds : Interval or None
+        Guaranteed [lower, upper] of the two-temperature L2D and Ψ on the
+        finest mesh [W/(m·K)] (:mod:`bridgecalc.study.bounds`).
+    couplings_bounds, pair_psi_bounds : dict of (str, str) to Interval
+        The same of every L_ij and of each Ψ_ij with flanking elements.
+    bounds_note : str
+        Why there are no bounds, when there are none.
     """
 
     method: str
@@ -165,6 +172,11 @@ class ConvergenceStudy:
     iso_doubling_change: float | None = None
     criterion_met: bool = False
     stop_reason: str = ""
+    coupling_coefficient_bounds: object = None
+    psi_bounds: object = None
+    couplings_bounds: dict = field(default_factory=dict)
+    pair_psi_bounds: dict = field(default_factory=dict)
+    bounds_note: str = ""
 
     @property
     def psi_extrapolated(self):
@@ -266,7 +278,42 @@ class ConvergenceStudy:
         if self.theta_si_min is not None:
             out["theta_si_min_extrapolated"] = self.theta_si_min.value
             out["theta_si_min_error_estimate"] = _finite(self.theta_si_min.error_estimate)
+        if self.couplings_bounds:
+            if self.coupling_coefficient_bounds is not None:
+                out["coupling_coefficient_bounds"] = self.coupling_coefficient_bounds.to_list()
+            if self.psi_bounds is not None:
+                out["psi_bounds"] = self.psi_bounds.to_list()
+            out["coupling_coefficients_bounds"] = []
+            for pair, interval in self.couplings_bounds.items():
+                entry = {"between": list(pair), "bounds": interval.to_list()}
+                if pair in self.pair_psi_bounds:
+                    entry["psi_bounds"] = self.pair_psi_bounds[pair].to_list()
+                out["coupling_coefficients_bounds"].append(entry)
+        elif self.bounds_note:
+            out["bounds_unavailable"] = self.bounds_note
         return out
+
+    def bounds_lines(self) -> list[str]:
+        """The guaranteed intervals in words, for the summary and the report."""
+        if not self.couplings_bounds:
+            return [f"no guaranteed bounds: {self.bounds_note}"] if self.bounds_note else []
+        lines = []
+
+        def text(symbol, interval):
+            return (f"{symbol} in [{interval.lower:.6g}, {interval.upper:.6g}] W/(m·K) "
+                    f"(width {interval.width:.2g})")
+
+        if self.coupling_coefficient_bounds is not None:
+            lines.append(text("L2D", self.coupling_coefficient_bounds))
+            if self.psi_bounds is not None:
+                lines.append(text("Ψ", self.psi_bounds))
+        if self.coupling_coefficient_bounds is None or len(self.couplings_bounds) > 1:
+            for pair, interval in self.couplings_bounds.items():
+                lines.append(text(f"L({pair[0]}, {pair[1]})", interval))
+                if pair in self.pair_psi_bounds:
+                    lines.append(text(f"Ψ({pair[0]}, {pair[1]})", self.pair_psi_bounds[pair]))
+        return ["guaranteed bounds for the model as written (finest mesh): " + lines[0]] + \
+            ["  " + line for line in lines[1:]]
 
     def summary_lines(self) -> list[str]:
         """Plain-words lines for the command-line summary and reports."""
@@ -278,6 +325,7 @@ class ConvergenceStudy:
             if math.isfinite(rel[key]):
                 lines.append(f"  estimated relative error of {self.label(key)}: "
                              f"{rel[key]:.2e} (target {self.tolerance:.1e})")
+        lines.extend("  " + line for line in self.bounds_lines())
         if self.iso_doubling_change is not None:
             lines.append(f"  ISO 10211 doubling check: heat flow changed by "
                          f"{100 * self.iso_doubling_change:.3f} % (limit 1 %)")
