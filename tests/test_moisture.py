@@ -499,3 +499,63 @@ def test_three_environments_use_the_month_s_temperatures(tmp_path):
     assert data["critical_month"] == moisture.critical_month
     assert data["passes"] == all(m.f_rsi >= m.f_rsi_required for m in moisture.months
                                  if m.f_rsi_required is not None)
+
+
+# -- outputs --------------------------------------------------------------------
+
+def test_outputs_show_the_check(tmp_path):
+    """The report's table and verdict, the monthly figure, the critical month's
+    isotherm on the temperature figure, and results.csv read the assessment."""
+    import csv
+    from bridgecalc import api
+    from bridgecalc.outputs import write_outputs
+    from bridgecalc.outputs.figures.moisture import critical_isotherm_level
+    result = api.run(read(files(tmp_path)), refinement=None, f_rsi_min=0.95)
+    out = write_outputs(result, tmp_path / "out", workers=1, stamp=False)
+    data = json.loads((out / "results.json").read_text(encoding="utf-8"))
+    moisture = data["moisture"]
+    assert data["surface_temperature_case"]["f_rsi_verdict"] == "fails"
+    row = next(csv.DictReader((out / "results.csv").open(encoding="utf-8")))
+    assert row["critical_month"] == "12" and row["moisture_criterion"] == "mould"
+    assert float(row["f_rsi_required"]) == moisture["f_rsi_required"]
+    assert row["moisture_verdict"] == moisture["verdict"] == "passes"
+    assert row["f_rsi_verdict"] == "fails"
+    html = (out / "report.html").read_text(encoding="utf-8")
+    assert "Surface humidity (ISO 13788)" in html and "December ◀ critical" in html
+    assert "a pass is no proof of a mould-free detail" in html
+    assert "licensed practitioner" in html
+    svg = (out / "moisture.svg").read_text(encoding="utf-8")
+    assert 'id="critical-month' in svg and 'id="f-rsi-junction' in svg
+    # the isotherm: where the model's field has the critical month's factor
+    level = critical_isotherm_level(result)
+    assert level == pytest.approx(0.0 + moisture["f_rsi_required"] * 20.0, rel=1e-12)
+    assert 'id="critical-isotherm' in (out / "temperature.svg").read_text(encoding="utf-8")
+    assert (out / "moisture.png").stat().st_size > 10_000
+
+
+def test_the_sweep_table_carries_the_verdict(tmp_path):
+    """A geometry script whose model asks for the check: sweep.csv gets its
+    verdict, critical month and required fRsi per variant, and a higher
+    humidity class asks for more."""
+    from bridgecalc.sweep import csv_text
+    from bridgecalc.sweep.runner import run_variant
+    files(tmp_path)
+    script = tmp_path / "wall.py"
+    script.write_text(textwrap.dedent(f'''\
+        import dataclasses
+        from bridgecalc.readers.modelfile import read
+        PARAMETERS = {{"humidity_class": 3}}
+        def build(humidity_class):
+            model = read({str(tmp_path / "detail.toml")!r})
+            return dataclasses.replace(model, moisture=dataclasses.replace(
+                model.moisture, interior_humidity_class=humidity_class))
+        '''), encoding="utf-8")
+    rows = [run_variant(str(script), k, {"humidity_class": c}, {"refinement": None})
+            for k, c in enumerate((2, 5))]
+    assert all(r.ok for r in rows), [r.status for r in rows]
+    text = csv_text(rows).splitlines()
+    header = text[0].split(",")
+    assert header[-3:] == ["moisture_verdict", "critical_month", "f_rsi_required [-]"]
+    (verdict2, month2, need2), (verdict5, month5, need5) = (r.moisture for r in rows)
+    assert need5 > need2 and month2 == 12
+    assert text[1].split(",")[-3:] == [verdict2, "12", repr(need2)]

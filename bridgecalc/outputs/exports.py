@@ -13,7 +13,9 @@
     factor field: θ = Σ g_j θ_j).
 ``results.csv``
     one header line and one row of the headline numbers; with more than two
-    temperatures the two-temperature columns (θi, θe, L2D, Ψ, fRsi) are empty.
+    temperatures the two-temperature columns (θi, θe, L2D, Ψ, fRsi) are empty;
+    with an ISO 13788 check, its criterion, critical month, required fRsi and
+    verdict (empty without one).
 ``couplings.csv``
     one row per pair of environments: L_ij, its estimated error, Σ U·l and
     Ψ_ij where flanking elements name the pair.
@@ -38,6 +40,7 @@ CSV_COLUMNS = (
     "theta_i_C", "theta_e_C", "coupling_coefficient_W_per_mK", "sum_ul_W_per_mK",
     "psi_W_per_mK", "theta_si_min_C", "theta_si_min_x", "theta_si_min_y", "f_rsi",
     "f_rsi_min", "f_rsi_verdict", "heat_flow_balance", "converged", "version",
+    "moisture_criterion", "critical_month", "f_rsi_required", "moisture_verdict",
 )
 
 
@@ -141,6 +144,15 @@ def headline_row(result, f_rsi_min=None, dimension_system=None, version="") -> d
                                                  else "no"),
         "version": version,
     }
+    moisture = data.get("moisture") or {}
+    row.update({
+        "moisture_criterion": moisture.get("criterion", ""),
+        "critical_month": "" if moisture.get("critical_month") is None
+        else moisture["critical_month"],
+        "f_rsi_required": "" if moisture.get("f_rsi_required") is None
+        else moisture["f_rsi_required"],
+        "moisture_verdict": moisture.get("verdict", ""),
+    })
     return row
 
 

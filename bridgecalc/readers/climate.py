@@ -66,6 +66,22 @@ def read_moisture(check: Checker, table, origin: str, environments=()) -> Moistu
         _as_float(table.get("interior_temperature")), source)
 
 
+def read_climate(path) -> tuple[ClimateMonth, ...]:
+    """The twelve months of a climate file (CSV, see the module docstring), checked,
+    in month order: for geometry scripts that build a MoistureCheck themselves.
+
+    Raises
+    ------
+    ModelError
+        Naming the file, its line and the column.
+    """
+    path = os.fspath(path)
+    check = Checker(path)
+    months, _, place = _climate_file(check, os.path.basename(path), path)
+    check_climate(check, months, (), place)
+    return tuple(sorted(months, key=_month_order))
+
+
 def _month_order(month: ClimateMonth):
     """Months in calendar order (a value that is not a month number sorts last,
     for the rules to name)."""

@@ -74,7 +74,15 @@ def run_variant(script: str, index: int, params: dict,
         couplings=tuple((c.between, c.value, c.psi) for c in pairs) if len(pairs) > 1 else (),
         weighting_factors=(tuple(result.weighting_factors.items())
                            if result.f_rsi is None else ()),
-        dimension_system=result.model.dimension_system)
+        dimension_system=result.model.dimension_system, moisture=_moisture(result))
+
+
+def _moisture(result) -> tuple | None:
+    """(verdict, critical month, required fRsi) of the ISO 13788 check, or None."""
+    moisture = getattr(result.assessment, "moisture", None)
+    if moisture is None:
+        return None
+    return moisture.verdict, moisture.critical_month, moisture.f_rsi_required
 
 
 def _single_threaded_worker(parent: int):

@@ -14,6 +14,10 @@ from ..outputs import staged_folder
 from .variants import CAUTION, CSV_FILE, FIGURE_FILE, NOTES_FILE, RESULT_COLUMNS, VariantResult
 
 
+#: The ISO 13788 check's columns, when a variant has one.
+MOISTURE_COLUMNS = ("moisture_verdict", "critical_month", "f_rsi_required [-]")
+
+
 def _cell(value) -> str:
     if value is None:
         return ""
@@ -30,18 +34,21 @@ def csv_text(rows: list[VariantResult]) -> str:
     Columns: ``variant``, every script parameter (in the script's order),
     then :data:`RESULT_COLUMNS`; with more than one pair of environments,
     ``L[i|j]`` and ``psi[i|j]`` per pair, and with more than two temperatures
-    ``g[j]`` at θsi,min per environment. Empty cells for values not computed.
+    ``g[j]`` at θsi,min per environment; with an ISO 13788 check, its verdict,
+    critical month and required fRsi. Empty cells for values not computed.
     Floats are written in full (``repr``), so the file is the same for the
     same input.
     """
     names = list(dict.fromkeys(n for r in rows for n in r.params))
     pairs = list(dict.fromkeys(pair for r in rows for pair, _, _ in r.couplings))
     environments = list(dict.fromkeys(name for r in rows for name, _ in r.weighting_factors))
+    checked = any(r.moisture for r in rows)
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\n")
     writer.writerow(["variant", *names, *RESULT_COLUMNS,
                      *(f"{what}[{a}|{b}] [W/(m·K)]" for a, b in pairs for what in ("L", "psi")),
-                     *(f"g[{name}] at theta_si_min [-]" for name in environments)])
+                     *(f"g[{name}] at theta_si_min [-]" for name in environments),
+                     *(MOISTURE_COLUMNS if checked else ())])
     for r in rows:
         couplings = {pair: (value, psi) for pair, value, psi in r.couplings}
         weights = dict(r.weighting_factors)
@@ -50,7 +57,9 @@ def csv_text(rows: list[VariantResult]) -> str:
                          _cell(r.theta_si_min), _cell(r.f_rsi), r.status,
                          r.convergence, _cell(r.mesh_nodes),
                          *(_cell(v) for p in pairs for v in couplings.get(p, (None, None))),
-                         *(_cell(weights.get(name)) for name in environments)])
+                         *(_cell(weights.get(name)) for name in environments),
+                         *((_cell(v) for v in (r.moisture or (None, None, None)))
+                           if checked else ())])
     return buffer.getvalue()
 
 
@@ -175,6 +184,12 @@ def notes_text(rows: list[VariantResult], vary: dict, script: str,
                  "environments [W/(m·K)]"] if any(r.couplings for r in rows) else []),
               *(["  g[j] at theta_si_min  temperature weighting factors at θsi,min [-] "
                  "(in place of fRsi)"] if any(r.weighting_factors for r in rows) else []),
+              *(["  moisture_verdict      ISO 13788 monthly check: passes, fails or not "
+                 "assessed;",
+                 "  critical_month        the month asking the most, and f_rsi_required "
+                 "what it asks [-];",
+                 "                        a pass is no proof of a mould-free detail"]
+                if any(r.moisture for r in rows) else []),
               "",
               "Ψ values depend on the dimension system; compare or combine only values "
               "in the same system.",

@@ -59,6 +59,9 @@ class VariantResult:
         With more than two temperatures: g_j at θsi,min [-] per environment.
     dimension_system : str or None
         The model's.
+    moisture : (str, int or None, float or None) or None
+        With an ISO 13788 check (the model's ``[moisture]``): its verdict, the
+        critical month and the fRsi it requires [-].
     """
 
     index: int
@@ -73,6 +76,7 @@ class VariantResult:
     couplings: tuple = ()
     weighting_factors: tuple = ()
     dimension_system: str | None = None
+    moisture: tuple | None = None
 
     @property
     def ok(self) -> bool:

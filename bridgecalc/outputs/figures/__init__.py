@@ -15,6 +15,10 @@ and written as PNG (300 dpi), and on request SVG and PDF too, by
 ``surface_temperature``
     θ along every run of interior surface against distance along it, with the
     user's fRsi criterion as a line when one is given (:mod:`.profile`).
+``moisture``
+    with an ISO 13788 check: the fRsi each month asks for against the
+    junction's (:mod:`.moisture`, which also draws the critical month's
+    isotherm on the temperature figure).
 
 Where the junction is small in a large section, ``materials_detail`` and
 ``temperature_detail`` show its close view (:func:`.layout.detail_window`).
@@ -46,7 +50,7 @@ _DRAWING = MappingProxyType({
     "material_colours": "style",
     "materials_figure": "section", "mesh_figure": "section",
     "temperature_figure": "temperature", "heat_flux_figure": "heat_flux",
-    "surface_temperature_figure": "profile",
+    "surface_temperature_figure": "profile", "moisture_figure": "moisture",
     "MAX_ISOTHERMS": "isotherms", "default_isotherm_step": "isotherms",
     "isotherm_levels": "isotherms",
     "save": "files", "prepare": "files",
@@ -66,6 +70,7 @@ def __getattr__(name: str):
 def build_figure(name: str, result, **options):
     """One of :func:`figure_names` as a Figure (``isotherm_step``, ``f_rsi_min`` apply)."""
     from .heat_flux import heat_flux_figure
+    from .moisture import moisture_figure
     from .profile import surface_temperature_figure
     from .section import materials_figure, mesh_figure
     from .temperature import temperature_figure
@@ -78,6 +83,7 @@ def build_figure(name: str, result, **options):
         "temperature_detail": lambda: temperature_figure(result, step, detail=True),
         "heat_flux": lambda: heat_flux_figure(result),
         "surface_temperature": lambda: surface_temperature_figure(result, f_rsi_min),
+        "moisture": lambda: moisture_figure(result),
     }
     return builders[name]()
 

@@ -36,19 +36,26 @@ def figure_formats(vector: bool = False) -> tuple[str, ...]:
 
 
 def figure_names(result) -> tuple[str, ...]:
-    """The figures of a run: :data:`FIGURES`, and the detail views when the
-    section has a :func:`detail_window`."""
+    """The figures of a run: :data:`FIGURES`, the detail views when the
+    section has a :func:`detail_window`, and ``moisture`` when the result
+    carries an ISO 13788 check."""
     if detail_window(result) is None:
-        return FIGURES
+        return FIGURES + moisture_figures(result)
     names = []
     for name in FIGURES:
         names += [name] + [d for d in DETAIL_FIGURES if d == f"{name}_detail"]
-    return tuple(names)
+    return tuple(names) + moisture_figures(result)
+
+
+def moisture_figures(result) -> tuple[str, ...]:
+    """``("moisture",)`` when the result's assessment holds an ISO 13788 check."""
+    assessment = getattr(result, "assessment", None)
+    return ("moisture",) if getattr(assessment, "moisture", None) is not None else ()
 
 
 def figure_size(name: str, result) -> tuple[float, float]:
     """Width and height [in] that figure ``name`` will have, without drawing it."""
-    if name == "surface_temperature":
+    if name in ("surface_temperature", "moisture"):
         return PAGE_WIDTH, PROFILE_HEIGHT
     return PAGE_WIDTH, section_layout(_extent(name, result), legend_rows(name, result))[4]
 

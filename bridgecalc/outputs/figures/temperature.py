@@ -14,6 +14,7 @@ from .catalogue import material_codes, view
 from .edges import material_edges, segments_path
 from .isotherms import (MAX_ISOTHERMS, bar_ticks, default_isotherm_step, isotherm_levels,
                         label_isotherms)
+from .moisture import draw_critical_isotherm
 from .layout import colour_bar, frame, new_figure, outline_detail
 from .raster import field_image, linear_in_cells, pixel_grid
 from .style import INK, STYLE, TEMPERATURE_CMAP, plt
@@ -75,6 +76,7 @@ def temperature_figure(result, isotherm_step=None, detail=False):
             iso = ax.tricontour(triangulation, theta, levels=lines, colors=INK,
                                 linewidths=0.55)
             label_isotherms(ax, iso, filled, avoid=[] if marker is None else [marker])
+        draw_critical_isotherm(ax, triangulation, theta, result)
         if not detail:
             outline_detail(ax, result)
         colour_bar(fig, ax, filled, aspect, "temperature θ [°C]",

@@ -17,7 +17,7 @@ from types import MappingProxyType
 from ... import __version__
 from ...assessments import f_rsi_verdict
 from ...results import CAUTION, printed_position
-from . import couplings
+from . import couplings, moisture
 from .blocks import Figure, Heading, KeyFigures, Para, Report, Table
 from .numbers import g_text as _g, n_text as _n, point_text as _point
 
@@ -30,13 +30,19 @@ FIGURE_CAPTIONS = MappingProxyType({
             "are the surfaces of the inputs table; unmarked dotted edges are adiabatic "
             "cut-off or symmetry planes.",
     "temperature": "Temperatures of the surface-temperature case (surface resistances for "
-                   "surface temperature) with labelled isotherms; the ring marks θsi,min.",
+                   "surface temperature) with labelled isotherms; the ring marks θsi,min. "
+                   "With an ISO 13788 check, the dashed line is where the temperature factor "
+                   "equals the critical month's fRsi,min: surface colder than it fails.",
     "materials_detail": "Materials at the junction: a close view of the figure before, whose "
                         "dashed box marks this window.",
     "temperature_detail": "Temperatures at the junction: a close view of the figure before, "
                           "whose dashed box marks this window; isotherms and θsi,min as there.",
     "heat_flux": "Heat-flux density |q| = |−λ∇θ| per triangle in the heat-flow case, on a "
                  "log scale; arrows show the direction of heat flow only.",
+    "moisture": "ISO 13788 monthly check: bars, the temperature factor fRsi,min each month "
+                "of the climate asks for (hatched: the critical month; none where the "
+                "exterior is not colder than the interior); line, the junction's fRsi. A pass "
+                "is no proof of a mould-free detail.",
     "surface_temperature": "Interior surface temperature along every run of interior "
                            "surface (surface-temperature case), against the distance along "
                            "it; the right axis reads it as a temperature factor.",
@@ -233,6 +239,7 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
                           _n(st["temperature_weighting_factors"][
                               st["theta_si_min_environment"]], 3), "",
                           "weighting factors at θsi,min: " + couplings.weighting_factor_note(data)))
+    moisture.key_figure(key, data)
     blocks.append(key)
     for warning in warnings:
         blocks.append(Para(f"Warning: {warning}. These numbers must not be used as they "
@@ -389,6 +396,8 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
             [[name, _point(p.at), _n(hf["probes"][name], 2), _n(st["probes"].get(name), 2)]
              for name, p in zip(hf["probes"], model.probes)],
             "Probe temperatures.", (2, 3), (3, 2, 2, 2.4)))
+
+    blocks.extend(moisture.moisture_blocks(data))
 
     # -- convergence
     blocks.append(Heading(2, "Mesh refinement", "convergence"))
