@@ -511,7 +511,7 @@ def test_outputs_show_the_check(tmp_path):
     from bridgecalc.outputs import write_outputs
     from bridgecalc.outputs.figures.moisture import critical_isotherm_level
     result = api.run(read(files(tmp_path)), refinement=None, f_rsi_min=0.95)
-    out = write_outputs(result, tmp_path / "out", workers=1, stamp=False)
+    out = write_outputs(result, tmp_path / "out", workers=1, stamp=False, vector_figures=True)
     data = json.loads((out / "results.json").read_text(encoding="utf-8"))
     moisture = data["moisture"]
     assert data["surface_temperature_case"]["f_rsi_verdict"] == "fails"
