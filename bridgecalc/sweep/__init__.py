@@ -23,11 +23,12 @@ side effects (``if __name__ == "__main__":`` in a script), because workers are
 started with the ``spawn`` method and import the caller's main module.
 """
 
-from .runner import default_workers, run_variant, sweep
+from .runner import Progress, default_workers, run_calls, run_variant, sweep
 from .table import csv_text, notes_text, summary, sweep_figure, write_sweep
 from .variants import (CSV_FILE, FIGURE_FILE, NOTES_FILE, RESULT_COLUMNS, VariantResult,
                        parse_vary, variants)
 
-__all__ = ("CSV_FILE", "FIGURE_FILE", "NOTES_FILE", "RESULT_COLUMNS", "VariantResult",
-           "csv_text", "default_workers", "notes_text", "parse_vary", "run_variant", "summary",
+__all__ = ("CSV_FILE", "FIGURE_FILE", "NOTES_FILE", "Progress", "RESULT_COLUMNS", "VariantResult",
+           "csv_text", "default_workers", "notes_text", "parse_vary", "run_calls", "run_variant",
+           "summary",
            "sweep", "sweep_figure", "variants", "write_sweep")

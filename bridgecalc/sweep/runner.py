@@ -1,5 +1,6 @@
-"""Running the variants: one per process on local workers, or on a Dask
-distributed cluster, with a progress line; rows come back in variant order."""
+"""Running calculations in parallel: one per process on local workers, or on
+a Dask distributed cluster, with a progress line; results come back in the
+order given (:func:`run_calls`, used by sweeps and schedules alike)."""
 
 from __future__ import annotations
 
@@ -101,18 +102,19 @@ class Progress:
 
     WIDTH = 30
 
-    def __init__(self, total: int, stream=None, label: str = "sweep"):
+    def __init__(self, total: int, stream=None, label: str = "sweep", noun: str = "variants"):
         self.total, self.done, self.failed = total, 0, 0
         self.stream = stream if stream is not None else sys.stderr
-        self.label = label
+        self.label, self.noun = label, noun
         self.tty = bool(getattr(self.stream, "isatty", lambda: False)())
         self.start = time.perf_counter()
         self._next_line = 0
         self._draw()
 
-    def __call__(self, row: VariantResult) -> None:
+    def __call__(self, row) -> None:
+        """One more item done; ``row.ok`` false counts it as failed."""
         self.done += 1
-        self.failed += 0 if row.ok else 1
+        self.failed += 0 if getattr(row, "ok", True) else 1
         self._draw()
 
     def _draw(self) -> None:
@@ -125,7 +127,7 @@ class Progress:
             self.stream.write(f"\r{self.label} [{bar}] {self.done}/{self.total}"
                               f"{failed} {elapsed:5.1f} s{end}")
         elif self.done >= self._next_line:
-            self.stream.write(f"{self.label}: {self.done}/{self.total} variants done"
+            self.stream.write(f"{self.label}: {self.done}/{self.total} {self.noun} done"
                               f"{failed} ({elapsed:.1f} s)\n")
             self._next_line = self.done + max(1, math.ceil(self.total / 10))
             if self.done < self.total:
@@ -198,48 +200,103 @@ def sweep(script, vary: dict, workers: int | None = None, scheduler: str | None 
                               f"at least one value")
     # every parameter spelled out: each row is reproducible on its own
     combos = variants(vary, {**module.PARAMETERS, **base})
+    rows = run_calls(run_variant, [(script, i, params, run_options)
+                                   for i, params in enumerate(combos)],
+                     workers=workers, scheduler=scheduler, progress=progress,
+                     timeout=timeout,
+                     lost=lambda i, message: VariantResult(i, combos[i], f"failed: {message}"))
+    return rows
+
+
+def _reporter(progress, total, label="sweep", noun="variants"):
+    """The per-item callback for ``progress`` (see :func:`sweep`), or None."""
+    if progress is True:
+        return Progress(total, label=label, noun=noun)
+    return progress or None
+
+
+def run_calls(call, jobs: list[tuple], *, workers: int | None = None,
+              scheduler: str | None = None, progress=False, timeout: float | None = None,
+              lost=None, label: str = "sweep", noun: str = "variants") -> list:
+    """``call(*job)`` for every job, on local processes or a Dask cluster.
+
+    The one way bridgecalc spreads independent calculations over processes:
+    the variants of a sweep and the junctions of a schedule both go through
+    it. Local workers are started with ``spawn``, one thread each for BLAS
+    and OpenMP (:data:`SINGLE_THREAD_ENV`), and end with this process.
+
+    Parameters
+    ----------
+    call : callable
+        A module-level function (it is pickled by reference); it should
+        return a result for a failure rather than raise.
+    jobs : list of tuple
+        The arguments of each call.
+    workers : int, optional
+        Local worker processes (default: the cores available, at most one
+        per job). Ignored with ``scheduler``.
+    scheduler : str, optional
+        Address of a Dask distributed scheduler (``tcp://host:port``).
+    progress : bool or callable
+        True: a progress bar on stderr (:class:`Progress`); a callable is
+        called with each result as it completes.
+    timeout : float, optional
+        Limit for all the calls together [s].
+    lost : callable, optional
+        ``lost(index, message)`` gives the result of a job whose worker died
+        or was lost; default: the exception is raised.
+    label, noun : str
+        Words of the progress bar and the messages ("sweep", "variants").
+
+    Returns
+    -------
+    list
+        The results, in job order.
+
+    Raises
+    ------
+    BridgecalcError
+        ``workers`` < 1, the scheduler cannot be reached, or the calls did not
+        finish within ``timeout``.
+    """
+    if not jobs:
+        return []
     if scheduler is not None:
-        rows = _sweep_dask(script, combos, scheduler, progress, timeout, run_options)
+        done = _run_dask(call, jobs, scheduler, progress, timeout, lost, label, noun)
     else:
         if workers is None:
             workers = default_workers()
         if workers < 1:
             raise BridgecalcError(f"--workers must be at least 1, got {workers}")
-        rows = _sweep_local(script, combos, min(workers, len(combos)), progress, timeout,
-                            run_options)
-    return sorted(rows, key=lambda r: r.index)
+        done = _run_local(call, jobs, min(workers, len(jobs)), progress, timeout, lost,
+                          label, noun)
+    return [done[i] for i in range(len(jobs))]
 
 
-def _reporter(progress, total):
-    """The per-variant callback for ``progress`` (see :func:`sweep`), or None."""
-    if progress is True:
-        return Progress(total)
-    return progress or None
-
-
-def _timed_out(timeout) -> BridgecalcError:
-    return BridgecalcError(f"the sweep did not finish within {timeout:g} s; "
+def _timed_out(timeout, label) -> BridgecalcError:
+    return BridgecalcError(f"the {label} did not finish within {timeout:g} s; "
                            f"nothing written")
 
 
-def _take_row(future, futures, rows, report, lost: str) -> None:
-    """Append a finished variant's row; a worker that died or was lost
-    (``lost`` says where) becomes that variant's failed row."""
-    i, params = futures[future]
+def _take(future, futures, done, report, lost, where: str) -> None:
+    """Keep a finished job's result; a worker that died or was lost (``where``
+    says where) gives ``lost(index, message)``."""
+    i = futures[future]
     try:
-        row = future.result()
+        result = future.result()
     except Exception as exc:
-        row = VariantResult(i, params, f"failed: {lost}: {type(exc).__name__}: {exc}")
-    rows.append(row)
+        if lost is None:
+            raise
+        result = lost(i, f"{where}: {type(exc).__name__}: {exc}")
+    done[i] = result
     if report:
-        report(row)
+        report(result)
 
 
-def _sweep_local(script, combos, workers, progress, timeout, run_options
-                 ) -> list[VariantResult]:
+def _run_local(call, jobs, workers, progress, timeout, lost, label, noun) -> dict:
     import multiprocessing
     context = multiprocessing.get_context("spawn")
-    rows = []
+    done: dict = {}
     # Workers inherit the environment at start: one thread each for BLAS/OpenMP
     # from the first import on (the initializer alone would come too late for
     # libraries that read it when loaded).
@@ -249,26 +306,24 @@ def _sweep_local(script, combos, workers, progress, timeout, run_options
         with ProcessPoolExecutor(max_workers=workers, mp_context=context,
                                  initializer=_single_threaded_worker,
                                  initargs=(os.getpid(),)) as pool:
-            futures = {pool.submit(run_variant, script, i, params, run_options): (i, params)
-                       for i, params in enumerate(combos)}
-            report = _reporter(progress, len(combos))
+            futures = {pool.submit(call, *job): i for i, job in enumerate(jobs)}
+            report = _reporter(progress, len(jobs), label, noun)
             try:
                 for future in as_completed(futures, timeout=timeout):
-                    _take_row(future, futures, rows, report, "worker process")
+                    _take(future, futures, done, report, lost, "worker process")
             except TimeoutError:
                 pool.shutdown(wait=False, cancel_futures=True)
-                raise _timed_out(timeout) from None
+                raise _timed_out(timeout, label) from None
     finally:
         for key, value in saved.items():
             if value is None:
                 os.environ.pop(key, None)
             else:
                 os.environ[key] = value
-    return rows
+    return done
 
 
-def _sweep_dask(script, combos, scheduler, progress, timeout, run_options
-                ) -> list[VariantResult]:
+def _run_dask(call, jobs, scheduler, progress, timeout, lost, label, noun) -> dict:
     try:
         import distributed
     except ImportError:
@@ -281,22 +336,22 @@ def _sweep_dask(script, combos, scheduler, progress, timeout, run_options
         raise BridgecalcError(f"--scheduler {scheduler}: cannot connect within "
                               f"{CONNECT_TIMEOUT_S:g} s ({type(exc).__name__}: {exc})"
                               ) from None
-    rows = []
+    done: dict = {}
     try:
         futures = {}
-        for i, params in enumerate(combos):
-            future = client.submit(run_variant, script, i, params, run_options, pure=False,
-                                   key=f"bridgecalc-variant-{i}-{os.getpid()}-"
+        for i, job in enumerate(jobs):
+            future = client.submit(call, *job, pure=False,
+                                   key=f"bridgecalc-{label}-{i}-{os.getpid()}-"
                                        f"{time.time_ns()}")
-            futures[future] = (i, params)
-        report = _reporter(progress, len(combos))
+            futures[future] = i
+        report = _reporter(progress, len(jobs), label, noun)
         try:
             for future in distributed.as_completed(list(futures), loop=client.loop,
                                                    timeout=timeout):
-                _take_row(future, futures, rows, report, "cluster")
+                _take(future, futures, done, report, lost, "cluster")
         except TimeoutError:
             client.cancel(list(futures))
-            raise _timed_out(timeout) from None
+            raise _timed_out(timeout, label) from None
     finally:
         client.close()
-    return rows
+    return done
