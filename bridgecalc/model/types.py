@@ -15,6 +15,7 @@ from dataclasses import dataclass, field
 
 from ..errors import ModelError
 from ..physics import iso6946
+from .title_block import TitleBlock
 
 FORMAT = 1
 LENGTH_UNITS = {"mm": 1e-3, "m": 1.0}
@@ -320,6 +321,8 @@ class Model:
         Where the model came from (a file path or a script), used in messages.
     drawing : DrawingSource or None
         The drawing the regions and surface paths were read from, if any.
+    report : TitleBlock or None
+        The ``[report]`` table: the title block of its reports.
     """
 
     length_unit: str
@@ -338,6 +341,7 @@ class Model:
     format: int = FORMAT
     # Set when regions or surface paths were read from a drawing (addition C).
     drawing: DrawingSource | None = field(default=None, compare=False)
+    report: TitleBlock | None = None
 
     @property
     def metres_per_unit(self) -> float:

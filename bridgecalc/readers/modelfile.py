@@ -22,12 +22,14 @@ from ..model.types import (FORMAT, LENGTH_UNITS, AirLayer, Environment, Flanking
 from ..model.rules import check_air_layer, validate
 from .climate import moisture_text, read_moisture
 from . import drawing_table
+from .title_block import read_title_block
 
 
 #: Keys each table of a format-1 file may hold (plus ``air_layer``, added by
 #: bridgecalc, see docs/model-format.md).
 TOP_LEVEL_KEYS = ("format", "name", "length_unit", "dimension_system", "materials", "regions",
-                  "environments", "surfaces", "flanking", "probes", "moisture", "drawing")
+                  "environments", "surfaces", "flanking", "probes", "moisture", "drawing",
+                  "report")
 MATERIAL_KEYS = ("conductivity", "source", "air_layer")
 AIR_LAYER_KEYS = ("thickness", "direction", "emissivities")
 REGION_KEYS = ("material", "rectangle", "polygon", "holes", "heat_source")
@@ -241,7 +243,8 @@ def loads(text: str, origin: str = "<string>") -> Model:
                   environments=environments, surfaces=surfaces, flanking=flanking,
                   probes=probes, name=data.get("name"),
                   dimension_system=data.get("dimension_system"), moisture=moisture,
-                  origin=origin, format=fmt, drawing=drawn.source if drawn else None)
+                  origin=origin, format=fmt, drawing=drawn.source if drawn else None,
+                  report=read_title_block(check, data.get("report")))
     validate(model)
     return model
 
@@ -435,6 +438,8 @@ def dumps(model: Model, drawing: dict | None = None) -> str:
                 _assignment("at", list(probe.at))]
     if model.moisture is not None:
         out += ["", *moisture_text(model.moisture, _assignment)]
+    if model.report is not None:
+        out += ["", "[report]"] + [_assignment(k, v) for k, v in model.report.to_dict().items()]
     return "\n".join(out) + "\n"
 
 

@@ -53,6 +53,10 @@ class KeyFigures:
 
 @dataclass
 class Report:
+    """A report: its title, the line under it, its blocks, and its date
+    (ISO 8601, also the PDF's creation date; None: no date stated)."""
+
     title: str
     subtitle: str
     blocks: list
+    date: str | None = None

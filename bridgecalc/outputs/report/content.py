@@ -20,6 +20,7 @@ from ...results import CAUTION, printed_position
 from . import couplings, moisture
 from .blocks import Figure, Heading, KeyFigures, Para, Report, Table
 from .numbers import g_text as _g, n_text as _n, point_text as _point
+from .title_block import report_date, title_block_table
 
 
 FIGURE_CAPTIONS = MappingProxyType({
@@ -212,7 +213,8 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
     title = data["name"] or "Junction"
     subtitle = (f"Two-dimensional steady conduction to ISO 10211 · bridgecalc {__version__} · "
                 f"model {model.origin} · inputs fingerprint {model_fingerprint(model)}")
-    blocks: list = []
+    date = report_date(model.report)
+    blocks: list = [title_block_table(model.report, date)]
 
     # -- summary
     blocks.append(Heading(2, "Result", "result"))
@@ -487,4 +489,4 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
     if files:
         blocks.append(Heading(2, "Files of this run", "files"))
         blocks.append(Para(", ".join(files) + ".", "normal"))
-    return Report(title, subtitle, blocks)
+    return Report(title, subtitle, blocks, date)

@@ -2,8 +2,11 @@
 
 ReportLab is pure Python from PyPI and renders without a browser or system
 libraries. Text is set in DejaVu Sans, which matplotlib ships (it covers Ψ, θ,
-λ, ², ·), embedded in the file. ``invariant`` mode leaves out creation dates
-and random ids, so the same report gives the same bytes.
+λ, ², ·), embedded in the file. ``invariant`` mode leaves out random ids and
+the clock, so the same report gives the same bytes; in that mode ReportLab
+dates every file 1 January 2000 (its fixed stand-in for the time), so the
+document information is given the report's own date instead
+(:func:`_dated_canvas`): the same report, the same bytes, and the right day.
 """
 
 from __future__ import annotations
@@ -335,6 +338,36 @@ def write_pdf(report: Report, path, vector: bool = False) -> None:
     stamp_figures(path, lay_out(report, path), vector)
 
 
+def _dated_canvas(date: str | None):
+    """A ReportLab canvas class whose document is dated ``date`` (ISO 8601,
+    00:00 UTC) in its creation and modification dates, or None to leave
+    ReportLab's own date.
+
+    ReportLab takes the document's time stamp from the clock, or in
+    ``invariant`` mode from ``SOURCE_DATE_EPOCH`` or else 946684800 s
+    (2000-01-01); the stamp is made when the canvas is, so it is replaced
+    right after.
+    """
+    if date is None:
+        return None
+    import calendar
+    import datetime as dt
+    import time
+    from reportlab.lib.utils import TimeStamp
+    from reportlab.pdfgen.canvas import Canvas
+    epoch = calendar.timegm(dt.date.fromisoformat(date).timetuple())
+
+    class DatedCanvas(Canvas):
+        def __init__(self, *args, **kwargs):
+            super().__init__(*args, **kwargs)
+            stamp = TimeStamp(invariant=1)
+            stamp.t, stamp.lt = epoch, time.gmtime(epoch)
+            stamp.YMDhms = tuple(stamp.lt)[:6]
+            self._doc._timeStamp = stamp
+
+    return DatedCanvas
+
+
 def lay_out(report: Report, path) -> list:
     """Write ``report`` to ``path`` with empty space where each figure goes.
 
@@ -368,9 +401,10 @@ def lay_out(report: Report, path) -> list:
     saved = rl_config.useA85
     rl_config.useA85 = 0        # binary streams: ASCII85 in pure Python costs seconds
     placed: list = []
+    canvas = _dated_canvas(getattr(report, "date", None))
     try:
         doc.build(_flowables(report, A4[0] - 2 * margin, placed), onFirstPage=footer,
-                  onLaterPages=footer)
+                  onLaterPages=footer, **({"canvasmaker": canvas} if canvas else {}))
     finally:
         rl_config.useA85 = saved
     return placed
