@@ -242,6 +242,28 @@ def sweep_summary(rows, out_dir, seconds=None) -> str:
     return sweep_lines(rows, out_dir, seconds)
 
 
+def schedule(project, out_dir, *, workers=None, scheduler=None, progress=False, stop=None,
+             tolerance=None, timeout=None):
+    """A building's junctions from a project file, summed to H_TB, written into
+    ``out_dir`` (:func:`bridgecalc.schedule.run_schedule`).
+
+    Returns
+    -------
+    bridgecalc.schedule.ScheduleResult
+        ``heat_transfer_coefficient`` (H_TB [W/K], None when a junction
+        failed), ``error_bound`` [W/K], ``rows``.
+    """
+    from .schedule import run_schedule
+    return run_schedule(project, out_dir, workers=workers, scheduler=scheduler,
+                        progress=progress, stop=stop, tolerance=tolerance, timeout=timeout)
+
+
+def schedule_summary(result) -> str:
+    """The lines printed after a schedule."""
+    from .schedule import summary as schedule_lines
+    return schedule_lines(result)
+
+
 def fresh_folder(base) -> Path:
     """``base``, or ``base-2``, ``base-3``, ... : the first that does not exist."""
     from .outputs import fresh_folder as first_free

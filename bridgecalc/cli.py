@@ -94,6 +94,26 @@ def _parser() -> argparse.ArgumentParser:
     sweep.add_argument("--scheduler", metavar="ADDRESS",
                        help="run on the Dask distributed scheduler at ADDRESS "
                             "(tcp://host:port) instead of local processes")
+    schedule = sub.add_parser(
+        "schedule", help="compute a building's junctions from a project file and sum "
+                         "H_TB = Σ Ψ·l",
+        description="Compute every junction of a project file (a model or geometry script "
+                    "with its length in the building), reuse those unchanged since the last "
+                    "run into the same folder, and write schedule.json, schedule.csv, "
+                    "schedule.html, schedule.pdf and one folder per junction. Exit 0 when "
+                    "every junction was computed, 1 when some failed (each reported in its "
+                    "row, no total), 2 on bad input (nothing written).",
+        epilog=library)
+    schedule.add_argument("project", metavar="PROJECT", help="project file (.toml)")
+    schedule.add_argument("--out", metavar="DIR", help="output folder, replaced as a whole "
+                          "(default: PROJECT's name + '-schedule', in the current folder; "
+                          "running again there reuses the junctions that did not change)")
+    schedule.add_argument("--workers", type=int, metavar="N",
+                          help="local worker processes (default: the cores available)")
+    schedule.add_argument("--scheduler", metavar="ADDRESS",
+                          help="run on the Dask distributed scheduler at ADDRESS "
+                               "(tcp://host:port) instead of local processes; its workers "
+                               "must see the project and the output folder at the same paths")
     return parser
 
 
@@ -211,6 +231,20 @@ def command_sweep(args, stop=None) -> int:
     return 0 if all(r.ok for r in rows) else 1
 
 
+def command_schedule(args, stop=None) -> int:
+    """Exit 0 if every junction was computed, 1 if some failed."""
+    source = Path(args.project)
+    if args.workers is not None and args.workers < 1:
+        raise BridgecalcError(f"--workers must be at least 1, got {args.workers}")
+    out_dir = Path(args.out) if args.out else Path.cwd() / f"{source.stem}-schedule"
+    result = api.schedule(source, out_dir, workers=args.workers, scheduler=args.scheduler,
+                          progress=True, stop=stop)
+    print(api.schedule_summary(result))
+    for warning in result.warnings:
+        print(f"warning: {warning}", file=sys.stderr)
+    return 0 if result.ok else 1
+
+
 def main(argv=None) -> int:
     """Entry point of the ``bridgecalc`` command."""
     import signal
@@ -224,7 +258,8 @@ def main(argv=None) -> int:
         previous = signal.signal(signal.SIGTERM, stop)
     try:
         return {"run": command_run, "demo": command_demo, "check": command_check,
-                "sweep": command_sweep, "export": command_export}[args.command](args, stop)
+                "sweep": command_sweep, "export": command_export,
+                "schedule": command_schedule}[args.command](args, stop)
     except BridgecalcError as exc:
         print(f"error: {exc}", file=sys.stderr)
         return 2

@@ -1,7 +1,7 @@
 """The package's layout: folders along the data path, imports one way.
 
 inputs (physics, model, readers) → mesh → solve → study → results →
-assessments → validation → outputs → sweep → api → cli. A module may import, at module
+assessments → validation → outputs → sweep → schedule → api → cli. A module may import, at module
 level, only from its own stage or earlier ones; functions on top (api's
 facade, a worker starting the pipeline) may import later stages where they
 run them. These are the project's own rules (DEVELOPERS.md), checked on the
@@ -21,7 +21,8 @@ PACKAGE = ROOT / "bridgecalc"
 
 #: Stages in data-path order; a module's stage is its first path part.
 STAGES = ["__init__", "errors", "physics", "model", "readers", "mesh", "solve", "study",
-          "results", "assessments", "validation", "outputs", "sweep", "api", "cli", "__main__"]
+          "results", "assessments", "validation", "outputs", "sweep", "schedule", "api", "cli",
+          "__main__"]
 
 
 def stage_of(parts: tuple[str, ...]) -> int:

@@ -51,7 +51,7 @@ class StopRequest:
 
 
 @contextlib.contextmanager
-def staged_folder(out_dir, stop: StopRequest | None = None):
+def staged_folder(out_dir, stop: StopRequest | None = None, whole: bool = False):
     """A staging folder whose files land in ``out_dir`` only if the block succeeds.
 
     The staging folder is made beside ``out_dir`` (same file system, so the
@@ -65,6 +65,9 @@ def staged_folder(out_dir, stop: StopRequest | None = None):
     out_dir : str or Path
     stop : StopRequest, optional
         Once it has recorded a stop, the block counts as failed.
+    whole : bool
+        Replace an existing ``out_dir`` as a whole (a schedule's folder, whose
+        junction folders are replaced with it) instead of file by file.
     """
     out_dir = Path(out_dir)
     out_dir.parent.mkdir(parents=True, exist_ok=True)
@@ -80,6 +83,17 @@ def staged_folder(out_dir, stop: StopRequest | None = None):
         os.chmod(staging, 0o777 & ~umask)
         if not out_dir.exists():
             os.replace(staging, out_dir)
+        elif whole:
+            # the old folder steps aside under a staging name (removed by a
+            # later run if this one is killed now), the new one takes its place
+            old = staging.with_name(staging.name + ".replaced")
+            os.replace(out_dir, old)
+            try:
+                os.replace(staging, out_dir)
+            except BaseException:
+                os.replace(old, out_dir)
+                raise
+            shutil.rmtree(old, ignore_errors=True)
         else:
             items = sorted(staging.iterdir())
             # every file must be able to replace its namesake before any does

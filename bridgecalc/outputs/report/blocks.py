@@ -32,6 +32,7 @@ class Table:
     caption: str = ""
     numeric: tuple[int, ...] = ()       # right-aligned columns
     widths: tuple[float, ...] = ()      # relative column widths (PDF)
+    links: dict = field(default_factory=dict)   # (row, column) -> relative link of the cell
 
 
 @dataclass

@@ -88,10 +88,13 @@ def _html_block(block) -> str:
         return f'<div class="keys">{cards}</div>'
     if isinstance(block, Table):
         head = "".join(f"<th>{e(h)}</th>" for h in block.header)
-        body = "".join(
-            "<tr>" + "".join(f'<td class="num">{e(c)}</td>' if i in block.numeric
-                             else f"<td>{e(c)}</td>" for i, c in enumerate(row)) + "</tr>"
-            for row in block.rows)
+        def cell(r, i, c):
+            text = e(c)
+            if (r, i) in block.links:
+                text = f'<a href="{html.escape(block.links[r, i])}">{text}</a>'
+            return f'<td class="num">{text}</td>' if i in block.numeric else f"<td>{text}</td>"
+        body = "".join("<tr>" + "".join(cell(r, i, c) for i, c in enumerate(row)) + "</tr>"
+                       for r, row in enumerate(block.rows))
         caption = f"<caption>{e(block.caption)}</caption>" if block.caption else ""
         return f"<table>{caption}<thead><tr>{head}</tr></thead><tbody>{body}</tbody></table>"
     if isinstance(block, Figure):

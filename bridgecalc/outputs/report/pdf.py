@@ -117,6 +117,13 @@ def _cell(value: str, limit: int = CELL_CHARACTERS) -> str:
     return escape(value)
 
 
+def _linked(text: str, href: str | None) -> str:
+    """A cell's text as a link to ``href`` (a file relative to the report)."""
+    if href is None:
+        return text
+    return f'<a href="{escape(href, {chr(34): "&quot;"})}" color="{ACCENT}">{text}</a>'
+
+
 def _flowables(report: Report, width: float, placed: list):
     from reportlab.lib.colors import HexColor
     from reportlab.platypus import (KeepTogether, Paragraph, Spacer,
@@ -172,8 +179,9 @@ def _flowables(report: Report, width: float, placed: list):
             total = sum(weights)
             widths = [width * w / total for w in weights]
             rows = [[Paragraph(_text(h), s["head"]) for h in block.header]]
-            for row in block.rows:
-                rows.append([Paragraph(_cell(c), s["cellnum" if i in block.numeric else "cell"])
+            for r, row in enumerate(block.rows):
+                rows.append([Paragraph(_linked(_cell(c), block.links.get((r, i))),
+                                       s["cellnum" if i in block.numeric else "cell"])
                              for i, c in enumerate(row)])
             table = RLTable(rows, colWidths=widths, repeatRows=1)
             table.setStyle(TableStyle([
