@@ -16,6 +16,7 @@ from pathlib import Path
 import pytest
 
 from bridgecalc.readers import modelfile as model_io
+from bridgecalc.schedule import read_project
 from bridgecalc.cli import main
 
 from conftest import GEOMETRIES, ROOT
@@ -52,7 +53,11 @@ def test_examples_run(doc, tmp_path, monkeypatch):
     os.symlink(GEOMETRIES, tmp_path / "geometries")
     ran = 0
     for lang, body, filename in blocks(doc):
-        if lang == "toml" and re.search(r"^format\s*=", body, re.M):
+        if lang == "toml" and "[[junctions]]" in body:      # a project file
+            (tmp_path / (filename or "project.toml")).write_text(body, encoding="utf-8")
+            read_project(tmp_path / (filename or "project.toml"))
+            ran += 1
+        elif lang == "toml" and re.search(r"^format\s*=", body, re.M):
             model_io.loads(body, f"{doc.name} example")
             if filename:
                 (tmp_path / filename).write_text(body, encoding="utf-8")

@@ -18,7 +18,7 @@ from ..model import Model
 from ..readers import modelfile
 from ..readers import script as scripts
 from ..results import f_rsi_verdict
-from ..sweep.runner import gmsh_lock
+from ..sweep.runner import mesher_lock
 from .project import JunctionSpec, Project
 
 #: The fields of an outcome kept in schedule.json, so a later run can reuse it.
@@ -199,7 +199,7 @@ def compute_junction(model: Model, between, options: dict, folder: str) -> Junct
     run_options = {k: options[k] for k in ("tolerance", "max_nodes")
                    if options.get(k) is not None}
     try:
-        with gmsh_lock():
+        with mesher_lock():
             result = api.run(model, **run_options)
         outcome = outcome_of(result, between, options.get("f_rsi_min"))
         if outcome.psi is None:

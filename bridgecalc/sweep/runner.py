@@ -32,7 +32,7 @@ CONNECT_TIMEOUT_S = 5.0
 _GMSH_LOCK = threading.Lock()
 
 
-def gmsh_lock() -> threading.Lock:
+def mesher_lock() -> threading.Lock:
     """The lock a calculation holds while it meshes and solves, so that the
     threads of one Dask worker process take turns with gmsh."""
     return _GMSH_LOCK
@@ -66,7 +66,7 @@ def run_variant(script: str, index: int, params: dict,
     from ..api import load, run
     full = dict(params)
     try:
-        with gmsh_lock():
+        with mesher_lock():
             result = run(load(script, **params), **(run_options or {}))
     except BridgecalcError as exc:
         return VariantResult(index, full, f"failed: {exc}")
