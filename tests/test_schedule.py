@@ -197,18 +197,33 @@ def test_a_failing_junction_gives_no_total_and_exit_1(first, tmp_path, capsys):
     broken = tmp_path / "broken.toml"
     broken.write_text('format = 1\nlength_unit = "mm"\n[materials.a]\nconductivity = -1\n',
                       encoding="utf-8")
+    readme = (GEOMETRIES.parent / "README.md").read_text(encoding="utf-8")
+    plate = readme.split("<!-- file: plate.toml -->\n```toml\n", 1)[1].split("```", 1)[0]
+    climate = ", ".join(f"{{ month = {m}, temperature = {t}, relative_humidity = 0.85 }}"
+                        for m, t in zip(range(1, 13), (-1, 0, 3, 6, 10, 13, 15, 15, 12, 8,
+                                                       4, 1)))
+    (tmp_path / "plate.toml").write_text(
+        plate + f'\n[moisture]\nclimate = [{climate}]\ninterior_humidity_class = 3\n'
+                'criterion = "mould"\n', encoding="utf-8")
     text = PROJECT.replace('dimension_system = "external"', 'dimension_system = "internal"')
     text = text.split("[[junctions]]\nname = \"Wall corners\"")[0] + (
-        '[[junctions]]\nname = "Broken"\nmodel = "broken.toml"\nlength = 3.0\n')
+        '[[junctions]]\nname = "Broken"\nmodel = "broken.toml"\nlength = 3.0\n\n'
+        '[[junctions]]\nname = "Plate"\nmodel = "plate.toml"\nlength = 2.0\n')
     project = write_project(tmp_path, text)
     assert main(["schedule", str(project), "--out", str(out), "--workers", "1"]) == 1
     captured = capsys.readouterr()
     data = json.loads((out / "schedule.json").read_text(encoding="utf-8"))
     assert "heat_transfer_coefficient" not in data
-    good, bad = data["junctions"]
+    good, bad, plate_row = data["junctions"]
     assert good["psi"] is not None and good["reused"] is True
     assert bad["psi"] is None and "broken.toml" in bad["error"]
     assert data["failed"] == ["Broken"]
+    # the ISO 13788 verdict of the junction's own results.json, carried to its row
+    own = json.loads((out / plate_row["folder"] / "results.json").read_text(encoding="utf-8"))
+    assert plate_row["moisture_passes"] is own["moisture"]["passes"]
+    assert plate_row["reused"] is False and plate_row["psi"] is not None
+    html = (out / "schedule.html").read_text(encoding="utf-8")
+    assert ("passes (mould" if own["moisture"]["passes"] else "FAILS (mould") in html
     assert "no total" in captured.out
     # the model states external dimensions, the project internal ones
     assert "junctions[0].model" in captured.err and "internal" in captured.err

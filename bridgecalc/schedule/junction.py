@@ -17,7 +17,6 @@ from ..errors import BridgecalcError, ModelError
 from ..model import Model
 from ..readers import modelfile
 from ..readers import script as scripts
-from ..results import f_rsi_verdict
 from ..sweep.runner import mesher_lock
 from .project import JunctionSpec, Project
 
@@ -48,8 +47,8 @@ class JunctionOutcome:
     f_rsi : float or None
         [-], two environments only.
     f_rsi_verdict : str or None
-        Against the project's criterion: ``"meets"``, ``"fails"``, ``"not
-        assessed"``; None without a criterion.
+        Against the project's criterion: ``"passes"``, ``"fails"``, ``"not
+        assessed"`` (:mod:`bridgecalc.assessments`); None without a criterion.
     moisture : dict or None
         The ISO 13788 check of results.json (``moisture``) when the model has one.
     warnings : tuple of str
@@ -157,9 +156,10 @@ def _pair_value(mapping: dict, between):
     return None
 
 
-def outcome_of(result, between, f_rsi_min) -> JunctionOutcome:
-    """What the row needs of a result: Ψ of the pair with its error estimate,
-    fRsi and its verdict, the moisture check when there is one."""
+def outcome_of(result, between) -> JunctionOutcome:
+    """What the row needs of an assessed result (:func:`bridgecalc.api.run`
+    with the criterion): Ψ of the pair with its error estimate, fRsi and its
+    verdict, the moisture check when there is one."""
     study = result.convergence
     several = len(result.model.environments) > 2
     if several:
@@ -174,14 +174,14 @@ def outcome_of(result, between, f_rsi_min) -> JunctionOutcome:
     if error is not None and not math.isfinite(error):
         error = None
     data = result.to_dict()
+    verdict = data["surface_temperature_case"].get("f_rsi_verdict")
     moisture = data.get("moisture")
     if moisture is not None:
         moisture = {key: moisture.get(key) for key in
                     ("criterion", "f_rsi_required", "critical_month", "passes")}
     return JunctionOutcome(
         "ok", psi, None if error is None else abs(error), coupling_value,
-        result.theta_si_min, result.f_rsi,
-        f_rsi_verdict(result.f_rsi, f_rsi_min, result.warnings), moisture,
+        result.theta_si_min, result.f_rsi, verdict, moisture,
         tuple(result.warnings), result.mesh.node_count,
         None if study is None else bool(study.criterion_met),
         result.model.name, result.model.dimension_system)
@@ -196,12 +196,12 @@ def compute_junction(model: Model, between, options: dict, folder: str) -> Junct
     ``folder`` then.
     """
     from .. import api
-    run_options = {k: options[k] for k in ("tolerance", "max_nodes")
+    run_options = {k: options[k] for k in ("tolerance", "max_nodes", "f_rsi_min")
                    if options.get(k) is not None}
     try:
         with mesher_lock():
             result = api.run(model, **run_options)
-        outcome = outcome_of(result, between, options.get("f_rsi_min"))
+        outcome = outcome_of(result, between)
         if outcome.psi is None:
             return failed(no_psi_reason(model, between) or "no Ψ was computed")
         # one process per junction: its figures are drawn here, not in forks

@@ -40,8 +40,8 @@ SCHEDULE_CAUTIONS = (
 
 
 def _verdict_text(verdict) -> str:
-    return {"meets": "meets", "fails": "FAILS", "not assessed": "not assessed",
-            None: "no criterion"}[verdict]
+    return {"passes": "passes", "fails": "FAILS", "not assessed": "not assessed",
+            None: "no criterion"}.get(verdict, str(verdict))
 
 
 def _moisture_text(moisture) -> str:

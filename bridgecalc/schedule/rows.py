@@ -66,7 +66,7 @@ class JunctionRow:
     @property
     def criterion_met(self) -> bool | None:
         """fRsi against the project's criterion; None without one or when not assessed."""
-        return {"meets": True, "fails": False}.get(self.outcome.f_rsi_verdict)
+        return {"passes": True, "fails": False}.get(self.outcome.f_rsi_verdict)
 
     @property
     def moisture_passes(self) -> bool | None:
