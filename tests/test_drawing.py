@@ -685,3 +685,122 @@ def test_run_summary_and_results_say_which_unit(tmp_path, capsys, case2_files):
     assert "drawing            case2.dxf, read in m (from its header ($INSUNITS))" in summary
     data = json.loads((out / "results.json").read_text(encoding="utf-8"))
     assert data["drawing"]["unit"] == "m" and data["drawing"]["unit_from"] == "header"
+
+
+# -- the shipped example -----------------------------------------------------------------
+
+
+def test_shipped_stair_tower_corner(geometries):
+    """geometries/stair_tower_corner.toml reads the shipped drawing (arcs as
+    bulges, hatches over outlines, dimensions, text and a title block on other
+    layers). Its L2D agrees within 0.5 % with the sum of the two straight legs
+    (ISO 6946 plane layers, U = 1/(Rsi + Σd/λ + Rse)) and the quarter
+    cylinder of the curve (radial conduction, Incropera et al., Fundamentals of
+    Heat and Mass Transfer, 6th ed., §3.3.1, from memory): the straight and
+    the curved parts meet with nearly the same temperature field, so the sum
+    is close to, though not exactly, the 2D answer (0.05 % apart here)."""
+    model = bridgecalc.load(geometries / "stair_tower_corner.toml")
+    assert [r.material for r in model.regions] == ["masonry", "eps"]
+    assert model.drawing.unit_from == "header" and model.dimension_system == "external"
+    result = bridgecalc.run(model)
+    r_i, r_m, r_o, leg = 0.600, 0.840, 1.000, 1.500           # [m]
+    u = 1 / (0.13 + 0.240 / 0.7 + 0.160 / 0.035 + 0.04)
+    quarter = (math.pi / 2) / (0.13 / r_i + math.log(r_m / r_i) / 0.7
+                                + math.log(r_o / r_m) / 0.035 + 0.04 / r_o)
+    assert result.coupling_coefficient == pytest.approx(2 * leg * u + quarter, rel=5e-3)
+    # Ψ against external dimensions: the flanking walls count 2 × 2.5 m
+    assert result.psi == pytest.approx(result.coupling_coefficient - 2 * 2.5 * u, abs=1e-9)
+    assert result.psi < 0          # a convex corner measured externally
+
+
+def test_benchmark_drawing_reads_as_its_model_file(tmp_path):
+    """benchmarks/bench_drawing.py: its 5 000-entity drawing (400 blocks, each a
+    polyline under its hatch, and clutter) reads to one region per block plus
+    mortar and insulation, the same as its self-contained model file."""
+    import importlib.util
+    from conftest import ROOT
+    spec = importlib.util.spec_from_file_location("bench_drawing",
+                                                  ROOT / "benchmarks" / "bench_drawing.py")
+    bench = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(bench)
+    assert bench.make_drawing(tmp_path / "wall.dxf") == bench.ENTITIES
+    (tmp_path / "wall.toml").write_text(bench.MODEL, encoding="utf-8")
+    model = bridgecalc.load(tmp_path / "wall.toml")
+    assert len(model.regions) == bench.COURSES * bench.PER_COURSE + 2
+    bridgecalc.export(model, tmp_path / "polygons.toml")
+    again = bridgecalc.load(tmp_path / "polygons.toml")
+    assert [r.vertices for r in again.regions] == [r.vertices for r in model.regions]
+
+
+def test_solids_old_polylines_loops_of_lines_and_hatch_styles(tmp_path):
+    """SOLID (3 and 4 corners, in DXF's zig-zag order), an old-style POLYLINE with a
+    bulge, lines and an arc that join end to end, and the three hatch styles
+    (odd parity, outermost, ignore islands) read as a CAD program draws them."""
+    import shapely
+
+    def draw(doc, msp):
+        msp.add_solid([(0, 0), (10, 0), (0, 10), (10, 10)], dxfattribs={"layer": "A"})
+        msp.add_solid([(20, 0), (30, 0), (25, 10)], dxfattribs={"layer": "A"})
+        msp.add_polyline2d([(40, 0, 0, 0, 1), (50, 0, 0, 0, 0)], format="xyseb", close=True,
+                           dxfattribs={"layer": "A"})
+        msp.add_line((60, 0), (70, 0), dxfattribs={"layer": "A"})
+        msp.add_arc((70, 5), 5, -90, 90, dxfattribs={"layer": "A"})
+        msp.add_line((60, 10), (70, 10), dxfattribs={"layer": "A"})
+        msp.add_line((60, 10), (60, 0), dxfattribs={"layer": "A"})
+        for style, x in ((0, 200), (1, 300), (2, 400)):
+            h = msp.add_hatch(dxfattribs={"layer": "A", "hatch_style": style})
+            for k, half in enumerate((40, 30, 20)):
+                h.paths.add_polyline_path(rect(x - half, -half, x + half, half),
+                                          flags=1 if k == 0 else 0)
+
+    found = drawn_shapes(tmp_path, draw)
+    areas = [round(shapely.Polygon(s.outline, s.holes).area, 1) for s in found]
+    half_disc = math.pi * 25 / 2                     # r = 5 mm, less the chords' segments
+    assert areas[:2] == [100.0, 50.0]
+    assert areas[2] == pytest.approx(half_disc, abs=0.7)
+    assert areas[3] == pytest.approx(100 + half_disc, abs=0.7)
+    # odd parity: a ring with a hole and the island filled; outermost: the ring
+    # only; ignore: the whole outer square
+    assert areas[4:] == [2800.0, 1600.0, 2800.0, 6400.0]
+
+
+def test_model_rules_name_the_drawing_layer_and_handle(tmp_path, capsys):
+    """A region from the drawing that breaks a model rule (a piece no surface
+    touches) is named by drawing, layer and handle as well as regions[i]."""
+    def draw(doc, msp):
+        square(msp)
+        msp.add_lwpolyline(rect(500, 0, 600, 100), close=True, dxfattribs={"layer": "A"})
+        boundary_line(msp, (0, 0), (100, 0))
+
+    path = error_case(tmp_path, draw)
+    handle = list(ezdxf.readfile(tmp_path / "d.dxf").modelspace())[1].dxf.handle
+    assert main(["run", str(path), "--out", str(tmp_path / "out")]) == 2
+    err = capsys.readouterr().err
+    assert f"regions[1].polygon (drawing d.dxf, layer 'A', entity {handle} (LWPOLYLINE))" in err
+    assert "touches no surface" in err and not (tmp_path / "out").exists()
+
+
+@pytest.mark.parametrize("change, expected", [
+    (('layer = "IN"', 'path = [[0, 0], [100, 0]]\nlayer = "IN"'), "give either path or layer"),
+    (('[drawing]', '[drawing]\nunit = "inch"'), "drawing.unit: unknown unit 'inch'"),
+    (('layers = [{ layer = "A", material = "a" }]',
+      'layers = [{ layer = "A", material = "a" }, { layer = "in", material = "a" }]'),
+     "also a material layer"),
+    (('material = "a" }]', 'material = "b" }]'), "drawing.layers[0].material: material 'b'"),
+    (('file = "d.dxf"\n', ''), "drawing.file: missing"),
+])
+def test_drawing_table_keys_are_checked(tmp_path, capsys, change, expected):
+    path = error_case(tmp_path, lambda doc, msp: (square(msp), boundary_line(msp, (0, 0), (100, 0))),
+                      model=SQUARE_MODEL.replace(*change))
+    assert main(["export", str(path), "--to", str(tmp_path / "x.toml")]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("error: ") and expected in err, err
+    assert not (tmp_path / "x.toml").exists()
+
+
+def test_a_surface_layer_without_a_drawing(tmp_path, capsys):
+    text = SQUARE_MODEL.replace('[drawing]\nfile = "d.dxf"\nlayers = [{ layer = "A", material = "a" }]',
+                                '[[regions]]\nmaterial = "a"\nrectangle = [0, 0, 100, 100]')
+    (tmp_path / "m.toml").write_text(text, encoding="utf-8")
+    assert main(["export", str(tmp_path / "m.toml"), "--to", str(tmp_path / "x.toml")]) == 2
+    assert "surfaces[0].layer: takes its paths from a drawing" in capsys.readouterr().err

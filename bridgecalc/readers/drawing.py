@@ -310,6 +310,15 @@ def _xy(points) -> np.ndarray:
     return np.array([(p[0], p[1]) for p in points], dtype=float).reshape(-1, 2)
 
 
+def _wcs(entity, points, elevation) -> np.ndarray:
+    """Points in an entity's own coordinate system (OCS) to world coordinates
+    (ezdxf's OCS); the identity for entities drawn in the plan's xy plane."""
+    extrusion = entity.dxf.get("extrusion", (0.0, 0.0, 1.0))
+    if tuple(extrusion) == (0.0, 0.0, 1.0):
+        return _xy(points)
+    return _xy(entity.ocs().points_to_wcs([(x, y, elevation) for x, y in points]))
+
+
 def _closed_ring(points: np.ndarray) -> np.ndarray:
     """A closed outline without its repeated last point."""
     if len(points) > 1 and np.array_equal(points[0], points[-1]):
@@ -390,8 +399,7 @@ def curve_points(entity, distance: float, source: Source, where: str) -> tuple[n
     if kind == "LWPOLYLINE":
         vertices = [(x, y, b) for x, y, *_, b in entity.get_points("xyseb")]
         pts = bulge_points(vertices, entity.closed, distance)
-        pts = _xy(entity.ocs().points_to_wcs([(x, y, entity.dxf.elevation) for x, y in pts]))
-        return (pts, bool(entity.closed))
+        return _wcs(entity, pts, entity.dxf.elevation), bool(entity.closed)
     if kind == "POLYLINE":
         if entity.is_polygon_mesh or entity.is_poly_face_mesh:
             _unreadable(source, where, "a polygon or polyface mesh is not an outline; draw "
@@ -402,8 +410,7 @@ def curve_points(entity, distance: float, source: Source, where: str) -> tuple[n
                     for v in entity.vertices]
         pts = bulge_points(vertices, entity.is_closed, distance)
         z = entity.dxf.elevation.z if entity.dxf.hasattr("elevation") else 0.0
-        pts = _xy(entity.ocs().points_to_wcs([(x, y, z) for x, y in pts]))
-        return pts, bool(entity.is_closed)
+        return _wcs(entity, pts, z), bool(entity.is_closed)
     _unreadable(source, where, f"bridgecalc does not read {kind} entities here")
 
 
@@ -480,7 +487,6 @@ def hatch_rings(hatch, distance: float, source: Source, where: str) -> list:
     """Every boundary path of a hatch as a closed ring in world coordinates."""
     from ezdxf.entities.boundary_paths import EdgePath, PolylinePath
 
-    ocs = hatch.ocs()
     elevation = hatch.dxf.elevation.z
     rings = []
     for k, boundary in enumerate(hatch.paths):
@@ -490,7 +496,7 @@ def hatch_rings(hatch, distance: float, source: Source, where: str) -> list:
             pts = edge_path_points(boundary, distance, source, where, k)
         else:
             _unreadable(source, where, f"boundary path {k} is of a kind bridgecalc does not read")
-        ring = _closed_ring(_xy(ocs.points_to_wcs([(x, y, elevation) for x, y in pts])))
+        ring = _closed_ring(_wcs(hatch, pts, elevation))
         if len(ring) >= 3:
             rings.append(ring)
     return rings

@@ -69,6 +69,7 @@ class Ring:
     piece: Piece
     points: list           # indices
     hatch: int | None      # index of the hatch among the layer's pieces, None for an outline
+    polygon: object = None  # shapely Polygon of the cleaned ring
 
 
 def _fail(where: str, source: Source, message: str):
@@ -301,12 +302,7 @@ def _nest(polys: list, snap: float) -> tuple[list, list]:
 def layer_shapes(layer: str, rings: list[Ring], pts: np.ndarray, snap: float,
                  where: str) -> list[Shape]:
     """The shapes of one material layer: duplicates dropped, holes nested."""
-    polys = [_polygon(pts, r.points) for r in rings]
-    for ring, poly in zip(rings, polys):
-        if not poly.is_valid:
-            reason = shapely.is_valid_reason(poly)
-            _fail(where, ring.piece.source, f"its outline crosses or touches itself ({reason}); "
-                                            f"draw it as a simple closed outline")
+    polys = [r.polygon for r in rings]
     dropped = [False] * len(rings)
     # candidates for "the same area": rings whose envelopes lie within snap
     tree = shapely.STRtree(polys)
@@ -455,6 +451,7 @@ def build(material_layers: list[str], surface_layers: list[str], pieces: dict, s
     """
     rings: list[Ring] = []
     coords = []
+    count = 0
     for layer in material_layers:
         layer_pieces = pieces.get(layer, [])
         for piece in layer_pieces:
@@ -470,9 +467,9 @@ def build(material_layers: list[str], surface_layers: list[str], pieces: dict, s
         closed = [c if len(c) == 3 else (c[0], c[1], None) for c in closed]
         closed.sort(key=lambda c: c[0].order)
         for piece, ring, h in closed:
-            start = sum(len(c) for c in coords)
             coords.append(np.asarray(ring, dtype=float).reshape(-1, 2))
-            rings.append(Ring(layer, piece, list(range(start, start + len(coords[-1]))), h))
+            rings.append(Ring(layer, piece, list(range(count, count + len(coords[-1]))), h))
+            count += len(coords[-1])
     pts = np.concatenate(coords) if coords else np.zeros((0, 2))
     if len(pts):
         rep = _cluster(pts, snap)
@@ -481,16 +478,17 @@ def build(material_layers: list[str], surface_layers: list[str], pieces: dict, s
         pts = snap_vertices_to_edges(pts, rings, snap)
     for ring in rings:
         cleaned = clean_ring(ring.points)
-        if len(set(cleaned)) >= 3 and not _polygon(pts, cleaned).is_valid:
-            reason = shapely.is_valid_reason(_polygon(pts, cleaned))
+        poly = _polygon(pts, cleaned) if len(set(cleaned)) >= 3 else None
+        if poly is not None and not poly.is_valid:
+            reason = shapely.is_valid_reason(poly)
             _fail(where, ring.piece.source, f"its outline crosses or touches itself ({reason}); "
                                             f"draw it as a simple closed outline")
-        if len(set(cleaned)) < 3 or abs(_polygon(pts, cleaned).area) <= 0:
+        if poly is None or abs(poly.area) <= 0:
             _fail(where, ring.piece.source,
                   f"collapses to a line or a point at the snapping tolerance {snap:g} "
                   f"(it is thinner than that, or has no area); draw it thicker, or set "
                   f"[drawing] snap to a smaller value")
-        ring.points = cleaned
+        ring.points, ring.polygon = cleaned, poly
     shapes = []
     for layer in material_layers:
         shapes += layer_shapes(layer, [r for r in rings if r.layer == layer], pts, snap, where)
