@@ -276,3 +276,14 @@ def test_no_bounds_with_a_heat_source_or_held_corners():
     model = validation.case1_model()
     cases = solve_cases(model, build_mesh(model))
     assert "infinite" in unavailable_reason(cases)
+
+
+def test_report_states_the_bounds(geometries):
+    """The report's refinement section gives the intervals next to the estimate."""
+    from bridgecalc.outputs.report.blocks import Para
+    from bridgecalc.outputs.report.content import report_content
+    result = run(load(geometries / "steel_beam.py"))
+    lo, hi = result.to_dict()["convergence"]["psi_bounds"]
+    text = " ".join(b.text for b in report_content(result).blocks if isinstance(b, Para))
+    assert "Guaranteed bounds on the finest mesh" in text
+    assert f"Ψ [{lo:.6g}, {hi:.6g}]".replace("-", "−") in text

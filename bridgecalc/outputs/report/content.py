@@ -18,6 +18,7 @@ from ... import __version__
 from ...assessments import f_rsi_verdict
 from ...results import CAUTION, printed_position
 from . import couplings, moisture
+from .bounds import bounds_blocks
 from .blocks import Figure, Heading, KeyFigures, Para, Report, Table
 from .numbers import g_text as _g, n_text as _n, point_text as _point
 from .title_block import report_date, title_block_table
@@ -436,6 +437,7 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
             lines.append(f"Change of the heat flow on doubling the subdivisions: "
                          f"{100 * change:.3g} % (ISO 10211 asks for less than 1 %).")
         blocks.append(Para(" ".join(lines), "normal"))
+        blocks.extend(bounds_blocks(convergence))
         if convergence.get("stop_reason"):
             blocks.append(Para(f"Stopped because: {convergence['stop_reason']}.", "normal"))
         if convergence.get("criterion_met"):
