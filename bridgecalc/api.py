@@ -114,7 +114,9 @@ def run(model: Model, mesh_options: MeshOptions | None = None, element: str = "P
         Node budget of the convergence study [-].
     refinement : str or None
         ``"adaptive"`` (default; P2 studies refine uniformly), ``"uniform"``,
-        or None for one mesh without a study (``convergence`` is then None).
+        ``"interval"`` (refine by the guaranteed bounds' gap and stop when
+        their intervals are narrower than the tolerance; P1), or None for one
+        mesh without a study (``convergence`` is then None).
     refine : float
         Divides every element size of the study's first mesh (when no
         ``mesh_options`` are given) [-]; the command line's ``--refine``.

@@ -389,7 +389,8 @@ class Equilibrator:
         p = mesh.nodes[tri]
         centroid = p.mean(axis=1)
         sigma_sq = np.einsum("tm,tmn,tn->t", y, fs.mass, y) / lam
-        cross = np.einsum("tm,tmd,td->t", y, centroid[:, None, :] - p, grad)   # ∫ σ·∇u_h
+        # ∫_K σ·∇u_h = Σ_m Y_m ∫_K ψ_m · ∇u_h, ∫_K ψ_m = (centroid − p_m)/2
+        cross = 0.5 * np.einsum("tm,tmd,td->t", y, centroid[:, None, :] - p, grad)
         grad_sq = lam * fs.area * (grad ** 2).sum(axis=1)
         eta = np.maximum(sigma_sq - 2 * cross + grad_sq, 0.0)
         robin = np.flatnonzero(self.kind == 2)

@@ -32,6 +32,18 @@ flow from the interior side over θi − θe): it is the energy of the interior
 side, extrapolated directly. θsi,min is extrapolated too and reported, with
 its estimate, but it does not decide when the study stops.
 
+``method="interval"`` (P1) computes on every level the guaranteed intervals
+of :mod:`bridgecalc.study.bounds`, refines the triangles that carry half of
+the bound gap of the quantity whose interval is widest against the
+tolerance, and stops when every controlled quantity's interval is narrower
+than the tolerance (same scales as below) and the ISO doubling check holds;
+the extrapolations are still made and reported. On the shipped junctions it
+is not uniformly faster than the adaptive study, whose extrapolated values
+are far more accurate than the intervals are narrow, so ``"adaptive"`` stays
+the default (benchmarks/bench_bounds.py; docs/performance.md). Either way
+the finest mesh's intervals are reported (``coupling_coefficient_bounds``,
+``psi_bounds``, ``coupling_coefficients_bounds``).
+
 The study stops when every controlled quantity is within the tolerance: each
 L_ij relative to max(|L_ij|, COUPLING_FLOOR·max L), each Ψ (headline or of a
 pair with flanking elements) relative to max(|Ψ|, PSI_FLOOR·L); and the ISO
@@ -86,7 +98,7 @@ DEFAULT_TOLERANCE = 1e-3
 DEFAULT_MAX_NODES = 250_000
 #: Levels without a plausible order after which the study gives up.
 STALL_LEVELS = 3
-METHODS = ("adaptive", "uniform")
+METHODS = ("adaptive", "uniform", "interval")
 #: Relative changes below this multiple of the heat-flow imbalance |Σ Φ| / max |Φ|
 #: of the last levels are round-off too [-]. The imbalance is the round-off of
 #: the solution itself (it is zero in exact arithmetic): 1e-11 to 1.5e-10 on
@@ -151,8 +163,8 @@ def converge(model: Model, mesh_options: MeshOptions | None, element: str, toler
     """
     check_settings(tolerance, max_nodes, method)
     flanking_ul = dict(flanking_ul or {})
-    if method == "adaptive" and element != "P1":
-        method = "uniform"                  # the residual estimator is for P1
+    if method in ("adaptive", "interval") and element != "P1":
+        method = "uniform"                  # the estimator and the bounds are for P1
     study = ConvergenceStudy(method, element, float(tolerance), int(max_nodes))
     side = interior_side(model)
     index_pairs = pairs_of(model)
@@ -174,19 +186,27 @@ def converge(model: Model, mesh_options: MeshOptions | None, element: str, toler
         controlled = study.controlled()
         rel = study.relative_errors()
         fitted = all(x.fitted for _, _, x, _ in controlled)
-        within = (fitted and len(study.levels) >= 3
-                  and all(v <= tolerance for v in rel.values()))
+        found = None
+        if method == "interval" and bounds.unavailable_reason(cases) is None:
+            found = bounds.coupling_bounds(cases, side, gaps=True)
+            widths = _relative_widths(found, controlled, model)
+            within = len(study.levels) >= 2 and all(v <= tolerance for v in widths.values())
+        else:
+            within = (fitted and len(study.levels) >= 3
+                      and all(v <= tolerance for v in rel.values()))
         iso_ok = study.iso_doubling_change is not None and \
             study.iso_doubling_change < ISO_DOUBLING_LIMIT
         if within and iso_ok:
             study.criterion_met = True
-            study.stop_reason = "estimated errors below the tolerance and ISO doubling check met"
+            study.stop_reason = ("guaranteed intervals narrower than the tolerance and ISO "
+                                 "doubling check met" if found is not None else
+                                 "estimated errors below the tolerance and ISO doubling check met")
             break
         if len(study.levels) >= 3 and not fitted:
             stalled += 1
         else:
             stalled = 0
-        if stalled >= STALL_LEVELS:
+        if stalled >= STALL_LEVELS and found is None:
             study.stop_reason = (
                 "the heat flow does not settle regularly as the mesh is refined (no "
                 "plausible order of convergence over the last meshes). One cause is a held "
@@ -194,8 +214,11 @@ def converge(model: Model, mesh_options: MeshOptions | None, element: str, toler
                 "exact heat flow infinite. The values shown are those of the finest mesh; "
                 "there is no error estimate to rely on.")
             break
-        marked = None if method == "uniform" else indicators.mark(
-            _worst_indicators(cases, side, controlled))
+        if found is not None:
+            marked = indicators.mark(_gap_indicators(found, widths, side, model))
+        else:
+            marked = None if method == "uniform" else indicators.mark(
+                _worst_indicators(cases, side, controlled))
         finer = refine(mesh, marked)
         if finer.node_count > max_nodes:
             study.stop_reason = (
@@ -205,7 +228,7 @@ def converge(model: Model, mesh_options: MeshOptions | None, element: str, toler
                 + ("" if iso_ok else "; the ISO 10211 doubling check is not met"))
             break
         mesh = finer
-    _attach_bounds(study, cases, side, flanking_ul)
+    _attach_bounds(study, cases, side, flanking_ul, found)
     # θsi,min is reported with an estimate; it does not decide when to stop
     study.theta_si_min = extrapolate([lv.nodes for lv in study.levels],
                                      [lv.theta_si_min for lv in study.levels],
@@ -246,13 +269,40 @@ def _extrapolate(study: ConvergenceStudy, model: Model, side, energies: dict,
                                       cc.order, cc.fitted)
 
 
-def _attach_bounds(study: ConvergenceStudy, cases: UnitCases, side, flanking_ul: dict) -> None:
-    """The guaranteed intervals of the finest mesh (:mod:`bridgecalc.study.bounds`)."""
+def _relative_widths(found, controlled, model: Model) -> dict:
+    """Width of each controlled quantity's guaranteed interval over its scale [-],
+    keyed like :meth:`ConvergenceStudy.controlled` (key, pair). Ψ has its L's width."""
+    out = {}
+    for key, pair, _, scale in controlled:
+        interval = found.coupling_coefficient if pair is None else found.couplings[pair]
+        out[(key, pair)] = interval.width / scale if scale else math.inf
+    return out
+
+
+def _gap_indicators(found, widths: dict, side, model: Model) -> np.ndarray:
+    """The triangles' shares of the gap of the quantity whose interval is
+    widest against the tolerance: the interior side's energy for L2D and Ψ,
+    E_i, E_j and E_ij for L_ij (E_i alone with two environments)."""
+    _, pair = max(widths, key=widths.get)
+    if pair is None:
+        return found.indicators([tuple(sorted(side[2]))])
+    names = [e.name for e in model.environments]
+    i, j = names.index(pair[0]), names.index(pair[1])
+    if len(names) == 2:
+        return found.indicators([(i,)])
+    return found.indicators([(i,), (j,), (i, j)])
+
+
+def _attach_bounds(study: ConvergenceStudy, cases: UnitCases, side, flanking_ul: dict,
+                   found=None) -> None:
+    """The guaranteed intervals of the finest mesh (:mod:`bridgecalc.study.bounds`);
+    ``found``: those already computed on it."""
     reason = bounds.unavailable_reason(cases)
     if reason is not None:
         study.bounds_note = reason
         return
-    found = bounds.coupling_bounds(cases, side)
+    if found is None:
+        found = bounds.coupling_bounds(cases, side)
     study.coupling_coefficient_bounds = found.coupling_coefficient
     if found.coupling_coefficient is not None and None in flanking_ul:
         study.psi_bounds = found.coupling_coefficient.shifted(flanking_ul[None])
