@@ -559,3 +559,13 @@ def test_the_sweep_table_carries_the_verdict(tmp_path):
     (verdict2, month2, need2), (verdict5, month5, need5) = (r.moisture for r in rows)
     assert need5 > need2 and month2 == 12
     assert text[1].split(",")[-3:] == [verdict2, "12", repr(need2)]
+
+
+@pytest.mark.parametrize("name", ["orrowmere", "vintry_fell", "caddow_sands"])
+def test_shipped_climates_read(name):
+    """The demo climates (docs/scenario.md) ship with the package and pass every rule."""
+    from bridgecalc import api
+    from bridgecalc.readers.climate import read_climate
+    months = read_climate(api.geometries_folder() / f"climate_{name}.csv")
+    assert [m.month for m in months] == list(range(1, 13))
+    assert all(0 < m.relative_humidity < 1 for m in months)
