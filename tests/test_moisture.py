@@ -290,6 +290,7 @@ def bad(tmp_path, capsys, csv=CSV, **keys):
     (CSV.replace("0.85\n", "85\n", 1), "looks like a percentage"),
     (CSV.replace("0.85\n", "150\n", 1), "a fraction 0 to 1, got 150"),
     (CSV.replace("0.85\n", "-0.1\n", 1), "a fraction 0 to 1, got -0.1"),
+    (CSV.replace("0.85\n", "0\n", 1), "a relative humidity of 0 leaves no vapour"),
     (CSV.replace("3.5,", "warm,"), "column temperature: expected a number, got 'warm'"),
     (CSV.replace("3.5,", "nan,"), "expected a finite number"),
     (CSV.replace("month,", "mnth,"), "no column 'month'"),

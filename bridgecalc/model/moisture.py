@@ -194,10 +194,13 @@ def _check_temperature(check: Checker, value, where: str) -> float:
 
 
 def _check_fraction(check: Checker, value: float, where: str, closed: bool) -> None:
-    """A relative humidity as a fraction: 0 ≤ φ ≤ 1 (``closed``) or 0 < φ < 1."""
-    inside = 0.0 <= value <= 1.0 if closed else 0.0 < value < 1.0
+    """A relative humidity as a fraction: 0 < φ ≤ 1 (``closed``) or 0 < φ < 1."""
+    inside = 0.0 < value <= 1.0 if closed else 0.0 < value < 1.0
     if inside:
         return
+    if value == 0.0:
+        check.fail(where, "a relative humidity of 0 leaves no vapour to assess; give the "
+                          "monthly mean as a fraction above 0, up to 1")
     span = "0 to 1" if closed else "between 0 and 1 (exclusive)"
     if 1.0 < value <= 100.0:
         check.fail(where, f"{fmt(value)} looks like a percentage; give relative humidity as "
