@@ -806,3 +806,25 @@ def test_a_surface_layer_without_a_drawing(tmp_path, capsys):
     (tmp_path / "m.toml").write_text(text, encoding="utf-8")
     assert main(["export", str(tmp_path / "m.toml"), "--to", str(tmp_path / "x.toml")]) == 2
     assert "surfaces[0].layer: takes its paths from a drawing" in capsys.readouterr().err
+
+
+def test_blocks_scaled_unevenly_turn_arcs_into_elliptic_arcs(tmp_path):
+    """A circle and a polyline with a bulge in a block placed with x scale 2, y
+    scale 1 (ezdxf turns them into ellipses and pieces that join into a loop):
+    the ellipse of semi-axes 20 and 10 mm and a half ellipse, their areas less
+    at most the segments cut off by 0.1 mm chords."""
+    import shapely
+
+    def draw(doc, msp):
+        block = doc.blocks.new("B")
+        block.add_circle((0, 0), 10, dxfattribs={"layer": "A"})
+        block.add_lwpolyline([(30, 0, 1), (50, 0, 0)], format="xyb", close=True,
+                             dxfattribs={"layer": "A"})
+        msp.add_blockref("B", (0, 0), dxfattribs={"xscale": 2, "yscale": 1})
+
+    found = drawn_shapes(tmp_path, draw)
+    areas = [shapely.Polygon(s.outline).area for s in found]
+    ellipse, perimeter = math.pi * 20 * 10, 2 * math.pi * math.sqrt((20**2 + 10**2) / 2)
+    assert ellipse - 2 / 3 * 0.1 * perimeter <= areas[0] <= ellipse
+    assert ellipse / 2 - 2 / 3 * 0.1 * perimeter <= areas[1] <= ellipse / 2
+    assert "block 'B'" in found[0].source.describe()

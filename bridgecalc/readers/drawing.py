@@ -227,7 +227,7 @@ def walk(entities, wanted: set[str], inherited=None, inserts=()):
         kind = entity.dxftype()
         layer = layer_name(entity, inherited)
         if kind == "INSERT":
-            handle = _handle(entity)
+            handle = f"{_handle(entity)} (block {entity.dxf.get('name', '?')!r})"
             skipped = []
             refs = entity.multi_insert() if entity.mcount > 1 else [entity]
             for ref in refs:
@@ -256,7 +256,7 @@ def _handle(entity) -> str:
     origin = getattr(entity, "origin_of_copy", None)
     if origin is not None and origin.dxf.get("handle"):
         return origin.dxf.handle
-    return "(no handle)"
+    return "(none: made by the block reference from an arc or bulge scaled unevenly)"
 
 
 def read_drawing(path: Path, material_layers: list[str], surface_layers: list[str],
