@@ -525,6 +525,10 @@ def test_outputs_show_the_check(tmp_path):
     assert "Surface humidity (ISO 13788)" in html and "December ◀ critical" in html
     assert "a pass is no proof of a mould-free detail" in html
     assert "licensed practitioner" in html
+    unjudged = write_outputs(api.run(read(files(tmp_path)), refinement=None),
+                             tmp_path / "plain", workers=1, stamp=False)
+    plain = (unjudged / "report.html").read_text(encoding="utf-8")
+    assert "the ISO 13788 check below states its own" in plain
     svg = (out / "moisture.svg").read_text(encoding="utf-8")
     assert 'id="critical-month' in svg and 'id="f-rsi-junction' in svg
     # the isotherm: where the model's field has the critical month's factor

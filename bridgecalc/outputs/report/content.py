@@ -272,7 +272,9 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
     else:
         blocks.append(Para(
             f"No fRsi criterion was given for this run (bridgecalc run --f-rsi-min), so no "
-            f"pass or fail is stated. {COMMON_PRACTICE}", "note"))
+            f"pass or fail against a fixed criterion is stated"
+            + (" (the ISO 13788 check below states its own against the climate)"
+               if data.get("moisture") else "") + f". {COMMON_PRACTICE}", "note"))
     if minimum_at_cut_off(result):
         blocks.append(Para(
             f"θsi,min lies at {at_text} {unit}, where the interior surface meets an adiabatic "
