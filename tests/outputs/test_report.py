@@ -61,7 +61,7 @@ def test_a_ground_floor_report_carries_the_detail_views(geometries, tmp_path):
         for ext in ("png", "svg", "pdf"):
             assert (out / f"{name}.{ext}").stat().st_size > 0
     page = (out / "report.html").read_text(encoding="utf-8")
-    assert page.count("data:image/png;base64,") == 7
+    assert page.count("data:image/png;base64,") == 9          # 5 whole, 4 close views
     assert page.index("Materials at the junction: a close view") > page.index(
         "Materials as modelled")
 
@@ -70,7 +70,7 @@ def test_html_is_self_contained_and_carries_the_inputs_and_results(demo, written
     page = (written / "report.html").read_text(encoding="utf-8")
     assert not re.search(r"""(src|href)=["'](?!data:|#)""", page)
     assert "http://" not in page and "https://" not in page
-    assert page.count("data:image/png;base64,") == 5
+    assert page.count("data:image/png;base64,") == 9          # 5 whole, 4 close views
     for name, material in demo.model.materials.items():
         assert name in page and material.source in page
     assert "0.13" in page and "0.25" in page and "0.04" in page     # both resistances

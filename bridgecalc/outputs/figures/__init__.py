@@ -5,7 +5,8 @@ and written as PNG (300 dpi), and on request SVG and PDF too, by
 :func:`write_figures`:
 
 ``materials``, ``mesh``
-    the section as drawn (:mod:`.section`).
+    the section as drawn, and the element size of the finest mesh as a map
+    (:mod:`.section`).
 ``temperature``
     the surface-temperature case's field with isotherms at a chosen step and
     the θsi,min point marked (:mod:`.temperature`).
@@ -20,8 +21,10 @@ and written as PNG (300 dpi), and on request SVG and PDF too, by
     junction's (:mod:`.moisture`, which also draws the critical month's
     isotherm on the temperature figure).
 
-Where the junction is small in a large section, ``materials_detail`` and
-``temperature_detail`` show its close view (:func:`.layout.detail_window`).
+Where the junction is small in a large section, ``materials_detail``,
+``mesh_detail``, ``temperature_detail`` and ``heat_flux_detail`` show its close
+view (:func:`.catalogue.detail_window`), each after its view of the whole,
+which marks the close view's frame.
 The modules: :mod:`.catalogue` (which figures a run has, what each shows,
 their sizes: known without drawing and without matplotlib), :mod:`.style`
 (the house style), :mod:`.layout` (header, frame, panels), :mod:`.edges`
@@ -78,6 +81,8 @@ def build_figure(name: str, result, **options):
     builders = {
         "materials": lambda: materials_figure(result),
         "mesh": lambda: mesh_figure(result),
+        "mesh_detail": lambda: mesh_figure(result, detail=True),
+        "heat_flux_detail": lambda: heat_flux_figure(result, detail=True),
         "temperature": lambda: temperature_figure(result, step),
         "materials_detail": lambda: materials_figure(result, detail=True),
         "temperature_detail": lambda: temperature_figure(result, step, detail=True),

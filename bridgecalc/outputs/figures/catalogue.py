@@ -18,7 +18,7 @@ import numpy as np
 FIGURES = ("materials", "mesh", "temperature", "heat_flux", "surface_temperature")
 #: Figures of the junction's detail window, when there is one; each follows
 #: its view of the whole section.
-DETAIL_FIGURES = ("materials_detail", "temperature_detail")
+DETAIL_FIGURES = ("materials_detail", "mesh_detail", "temperature_detail", "heat_flux_detail")
 #: Every file a figure can be written as, in this order, and the resolution of
 #: the PNG [1/in].
 FORMATS = ("png", "svg", "pdf")
@@ -86,53 +86,114 @@ def padded_extent(result):
     return lo - pad, hi + pad
 
 
-#: A detail view is drawn when the junction's box covers less than this share
-#: of the whole section's box (a ground-floor model's ground block, say).
-DETAIL_AREA_SHARE = 0.25
+#: A close view is drawn when its window's longer side is at most this share of
+#: the whole section's longer side: it then shows the junction at least twice
+#: as large.
+DETAIL_SIZE_SHARE = 0.5
+#: Where the heat-flux density exceeds this many times its area-weighted median
+#: over the section, the flow is concentrated: that is the junction.
+CONCENTRATION = 2.0
+#: Share of the dissipation ∫λ|∇θ|² dA held by the triangles of highest density
+#: that mark where the temperature gradient concentrates.
+DISSIPATION_SHARE = 0.3
+
+
+def _weighted_quantile(values, weights, q):
+    order = np.argsort(values)
+    cumulative = np.cumsum(weights[order])
+    return float(np.interp(q * cumulative[-1], cumulative, values[order]))
 
 
 def detail_window(result):
     """Plot limits [length_unit] of a close view of the junction, or None.
 
+    Computed once per result and kept on it (``_bridgecalc_detail_window``):
+    every figure and the report's layout ask for it.
+
     Some sections are much larger than the construction they hold: ISO 10211
-    asks for a ground block of several metres around a ground-floor edge. A
-    view of the whole shows the junction as a few pixels. The construction
-    is where the regions' corners crowd: a corner counts when another corner
-    lies within a tenth of the section's size; the window is the box of those
-    corners with a margin, drawn only when it covers less than
-    :data:`DETAIL_AREA_SHARE` of the whole section's box and holds less than
-    that share of its solid (the tool's own rule: a sloping roof leaves its
-    box mostly empty, yet a close view of its wall would show no more).
+    asks for 1 m of flanking wall on each side of a junction, and several
+    metres of ground around a ground-floor edge; a view of the whole shows the
+    junction small. The junction is where the heat flow concentrates: the
+    triangles whose heat-flux density |q| (heat-flow case) is more than
+    :data:`CONCENTRATION` times its median over the section's area (where the
+    flow is one-dimensional, through the flanking elements, |q| stays near
+    U·Δθ), and more than the geometric mean of that median and the 99.5th
+    percentile (so that a slowly fading flow, as in the ground, counts only
+    where it is strongest). Their box is narrowed to where the temperature
+    gradient concentrates too, when the two overlap: the box of the
+    triangles of highest dissipation density λ|∇θ|² that hold
+    :data:`DISSIPATION_SHARE` of the section's (the energy of the field). Their box, from the 2nd to the 98th area-weighted percentile in x
+    and y (a few stray triangles do not stretch it), with the θsi,min point
+    unless that lies on a cut-off plane, and a margin, is the window. It is
+    drawn when its longer side is at most :data:`DETAIL_SIZE_SHARE` of the
+    whole section's (the tool's own rule: a compact section shows its junction
+    well enough whole).
     """
-    model = result.model
-    corners = np.unique(np.concatenate([np.asarray(r.vertices, float)
-                                        for r in model.regions]), axis=0)
+    cached = getattr(result, "_bridgecalc_detail_window", False)
+    if cached is not False:
+        return cached
+    window = _concentration_window(result)
+    try:
+        result._bridgecalc_detail_window = window
+    except AttributeError:          # pragma: no cover - a result that takes no attributes
+        pass
+    return window
+
+
+def _concentration_window(result):
+    from ...results import heat_flux_density
+    model, mesh = result.model, result.mesh
+    xy = mesh.nodes / model.metres_per_unit
     lo, hi = padded_extent(result)
     size = float((hi - lo).max())
-    if len(corners) < 3 or size <= 0:
+    if size <= 0 or mesh.triangle_count < 3:
         return None
-    from scipy.spatial import cKDTree
-    gap = cKDTree(corners).query(corners, k=2)[0][:, 1]      # to the nearest other corner
-    crowded = corners[gap < 0.1 * size]
-    if len(crowded) < 3:
-        return None
-    a, b = crowded.min(axis=0), crowded.max(axis=0)
-    pad = max(0.15 * float((b - a).max()), 0.03 * size)
-    # no further than the solid, then the same 3 % margin as a whole view
-    xy = result.mesh.nodes / model.metres_per_unit
-    a, b = np.maximum(a - pad, xy.min(axis=0)), np.minimum(b + pad, xy.max(axis=0))
-    margin = 0.03 * float((b - a).max())
-    a, b = a - margin, b + margin
-    if np.prod(b - a) >= DETAIL_AREA_SHARE * np.prod(hi - lo):
-        return None
-    corners = xy[result.mesh.triangles]                        # (T, 3, 2)
+    corners = xy[mesh.triangles]                              # (T, 3, 2)
     e1, e2 = corners[:, 1] - corners[:, 0], corners[:, 2] - corners[:, 0]
     area = 0.5 * np.abs(e1[:, 0] * e2[:, 1] - e1[:, 1] * e2[:, 0])
     centre = corners.mean(axis=1)
-    within = np.all((centre >= a) & (centre <= b), axis=1)
-    if area[within].sum() >= DETAIL_AREA_SHARE * area.sum():
+    q = heat_flux_density(model, result.heat_flow_case.field)
+    magnitude = np.hypot(q[:, 0], q[:, 1])
+    median = _weighted_quantile(magnitude, area, 0.5)
+    high = _weighted_quantile(magnitude, area, 0.995)
+    strong = magnitude > max(CONCENTRATION * median, np.sqrt(median * high))
+    if not strong.any() or median <= 0:
+        return None
+    a = np.array([_weighted_quantile(centre[strong, k], area[strong], 0.02) for k in (0, 1)])
+    b = np.array([_weighted_quantile(centre[strong, k], area[strong], 0.98) for k in (0, 1)])
+    # where the temperature gradient concentrates too: the triangles of highest
+    # dissipation density q²/λ = λ|∇θ|² that together hold DISSIPATION_SHARE of it
+    conductivity = np.array([model.materials[r.material].conductivity
+                             for r in model.regions])[mesh.region]
+    density = magnitude ** 2 / conductivity
+    order = np.argsort(-density)
+    held = np.cumsum((density * area)[order])
+    steep = order[:int(np.searchsorted(held, DISSIPATION_SHARE * held[-1])) + 1]
+    c, d = centre[steep].min(axis=0), centre[steep].max(axis=0)
+    if np.all(np.maximum(a, c) < np.minimum(b, d)):
+        a, b = np.maximum(a, c), np.minimum(b, d)
+    at = np.asarray(result.surface_temperature_case.theta_si_min_at, float)
+    if not _on_cut_off(result, at):
+        a, b = np.minimum(a, at), np.maximum(b, at)
+    pad = max(0.2 * float((b - a).max()), 0.04 * size)
+    a, b = np.maximum(a - pad, xy.min(axis=0)), np.minimum(b + pad, xy.max(axis=0))
+    margin = 0.03 * float((b - a).max())
+    a, b = a - margin, b + margin
+    if float((b - a).max()) > DETAIL_SIZE_SHARE * size:
         return None
     return a, b
+
+
+def _on_cut_off(result, at) -> bool:
+    """True when the point ``at`` [length_unit] is a node of an adiabatic outline
+    edge (a cut-off or symmetry plane)."""
+    mesh = result.mesh
+    adiabatic = mesh.boundary_edges[mesh.boundary_surface < 0].ravel()
+    if not len(adiabatic):
+        return False
+    xy = mesh.nodes[adiabatic] / result.model.metres_per_unit
+    size = float(np.ptp(mesh.nodes, axis=0).max()) / result.model.metres_per_unit
+    return float(np.linalg.norm(xy - at, axis=1).min()) <= 1e-9 * size
 
 
 def view(result, detail: bool):
@@ -189,8 +250,8 @@ def legend_rows(name: str, result) -> int:
     """Rows of the legend of figure ``name`` when it sits in two columns below the view."""
     if name in ("materials", "materials_detail"):
         return math.ceil(len(material_codes(result)[0]) / 2)
-    if name == "mesh":
-        return 2
+    if name in ("mesh", "mesh_detail"):
+        return 4
     return 0
 
 

@@ -9,19 +9,21 @@ import numpy as np
 from matplotlib.ticker import LogFormatter
 
 from ...results import heat_flux_density
-from .catalogue import material_codes, padded_extent, side_or_below
+from .catalogue import material_codes, side_or_below, view
 from .edges import material_edges, segments_path
-from .layout import colour_bar, frame, new_figure
+from .layout import colour_bar, frame, new_figure, outline_detail
 from .raster import cells_on_grid, field_image, pixel_grid
 from .style import HEAT_FLUX_CMAP, INK, STYLE, plt
 
 
-def heat_flux_figure(result):
+def heat_flux_figure(result, detail=False):
     """|q| of the heat-flow case per triangle (log scale) with flow-direction arrows.
 
     Parameters
     ----------
     result : bridgecalc.results.Result
+    detail : bool
+        Draw the :func:`detail_window` only (there must be one).
 
     Returns
     -------
@@ -37,12 +39,13 @@ def heat_flux_figure(result):
     floor = min(floor, top * 0.5) if top > 0 else 1e-12
     top = max(top, floor * 10)
     triangulation = mtri.Triangulation(xy[:, 0], xy[:, 1], mesh.triangles)
-    extent = padded_extent(result)
+    extent = view(result, detail)
     with plt.rc_context(STYLE):
         fig, ax, aspect = new_figure(
             result, model.name or "junction",
-            "Heat-flux density |q| = |−λ∇θ|, heat-flow case; arrows show direction only",
-            extent)
+            ("Heat-flux density at the junction (detail)" if detail else
+             "Heat-flux density |q| = |−λ∇θ|")
+            + ", heat-flow case; arrows show direction only", extent)
         # |q| is constant in each triangle: each pixel shows its triangle's value
         gx, gy, px, py, cells = pixel_grid(fig, ax, extent, triangulation)
         values = np.full(px.shape, np.nan)
@@ -53,8 +56,10 @@ def heat_flux_figure(result):
         names, codes = material_codes(result)
         ax.add_artist(segments_path(xy[material_edges(mesh, codes)], edgecolor="white",
                                    linewidth=0.5, alpha=0.6))
-        _flow_arrows(ax, triangulation, xy, q, magnitude)
+        _flow_arrows(ax, triangulation, xy, q, magnitude, extent)
         frame(ax, result, extent)
+        if not detail:
+            outline_detail(ax, result)
         bar = colour_bar(fig, ax, shade, aspect, "heat-flux density |q| [W/m²], log scale")
         # plain numbers (0.1, 1, 10; 3, 6 between them when the range is
         # short), not powers of ten in mathtext
@@ -72,9 +77,10 @@ class PlainLogFormatter(LogFormatter):
         return f"{x:g}"
 
 
-def _flow_arrows(ax, triangulation, xy, q, magnitude):
-    """Unit arrows along q on a regular grid, one per cell inside the solid."""
-    lo, hi = xy.min(axis=0), xy.max(axis=0)
+def _flow_arrows(ax, triangulation, xy, q, magnitude, extent):
+    """Unit arrows along q on a regular grid over the view, one per cell inside the solid."""
+    lo = np.maximum(xy.min(axis=0), extent[0])
+    hi = np.minimum(xy.max(axis=0), extent[1])
     span = hi - lo
     spacing = float(span.max()) / 26
     nx = max(int(span[0] / spacing), 1)

@@ -143,11 +143,24 @@ def label_isotherms(ax, contours, field, avoid=()):
     contours.clabel(levels=labelled, manual=[places[k] for k in order], fmt=text,
                     fontsize=ISOTHERM_LABEL_SIZE, inline=True, inline_spacing=2)
     for label, level in zip(contours.labelTexts, labelled):     # added in this order
+        label.set_rotation(upright(label.get_rotation()))
         fill = field.cmap(field.norm(level))
         light = 0.2126 * fill[0] + 0.7152 * fill[1] + 0.0722 * fill[2] > 0.45
         label.set_color(INK if light else "white")
         label.set_bbox(dict(boxstyle="square,pad=0.12", fc=fill, ec="none"))
     return labelled
+
+
+def upright(degrees: float) -> float:
+    """The same line direction read upright: a text angle in (−90°, 90°].
+
+    A label turned along its isotherm takes the line's direction, which may
+    point left or down; turned by half a turn it lies along the same line and
+    reads from left to right (a vertical one from bottom to top), so a "6" is
+    never read as a "9".
+    """
+    r = float(degrees) % 180.0
+    return r - 180.0 if r > 90.0 else r
 
 
 def _densify(points, spacing):

@@ -178,12 +178,17 @@ def _scale_bar(ax, result, extent):
     ax.add_artist(bar)
 
 
-def legend(fig, ax, handles, aspect, title=None):
-    """Legend in the figure's panel: right of a tall section, below a wide one."""
+def legend(fig, ax, handles, aspect, title=None, below=None):
+    """Legend in the figure's panel: right of a tall section, below a wide one;
+    under the colour bar ``below`` when the panel holds one too."""
     left, bottom, width, height = fig._bridgecalc_panel
     side = side_or_below(aspect)
+    top = bottom + height
+    if below is not None:
+        box = below.ax.get_position()
+        top = box.y0 - (0.3 if side else 0.55) / fig.get_figheight()
     leg = fig.legend(handles=handles, loc="upper left",
-                     bbox_to_anchor=(left, bottom + height), borderaxespad=0.0,
+                     bbox_to_anchor=(left, top), borderaxespad=0.0,
                      title=title, alignment="left", handlelength=2.4, handleheight=1.8,
                      ncols=1 if side else 2, labelspacing=0.6)
     leg.get_title().set_fontweight("bold")
@@ -193,16 +198,17 @@ def legend(fig, ax, handles, aspect, title=None):
     return leg
 
 
-def colour_bar(fig, ax, mappable, aspect, label, ticks=None):
+def colour_bar(fig, ax, mappable, aspect, label, ticks=None, length=1.0):
     """Colour bar in the figure's panel: upright beside a tall section, flat below a wide one.
 
     It is drawn from ``mappable``'s colour map and norm only (a field image
-    holds colours, not values).
+    holds colours, not values). ``length``: the share of a side panel's height
+    it takes (the rest may hold a legend).
     """
     left, bottom, width, height = fig._bridgecalc_panel
     mappable = ScalarMappable(norm=mappable.norm, cmap=mappable.cmap)
     if side_or_below(aspect):
-        bar_h = min(height, 4.5 / fig.get_figheight())
+        bar_h = min(height * length, 4.5 / fig.get_figheight())
         cax = fig.add_axes([left, bottom + height - bar_h, 0.16 / PAGE_WIDTH, bar_h])
         bar = fig.colorbar(mappable, cax=cax)
     else:

@@ -55,46 +55,115 @@ def materials_figure(result, detail=False):
         xy = result.mesh.nodes / model.metres_per_unit
         ax.add_artist(segments_path(xy[material_edges(result.mesh, codes)], edgecolor=INK,
                                    linewidth=0.7, gid="material-edges"))
+        frame(ax, result, extent)
+        thin = _outline_thin_regions(ax, model, style, extent)
         handles = [Patch(facecolor=style[n]["fill"], edgecolor=style[n]["line"],
                          hatch=style[n]["hatch"], linewidth=0.4,
-                         label=f"{n}\nλ = {model.materials[n].conductivity:g} W/(m·K)")
+                         label=f"{n}" + (" (thin: outlined)" if n in thin else "")
+                         + f"\nλ = {model.materials[n].conductivity:g} W/(m·K)")
                    for n in names]
-        frame(ax, result, extent)
         if not detail:
             outline_detail(ax, result)
         legend(fig, ax, handles, aspect, title="material")
     return fig
 
 
-def mesh_figure(result):
-    """Mesh view with boundary conditions along the outline.
+#: A region thinner than this on the page [pt] is outlined in its own colour
+#: with a line this wide, so that it shows at any scale.
+THIN_OUTLINE = 1.6
+
+
+def _outline_thin_regions(ax, model, style, extent) -> set:
+    """Outline, in their fill colour and :data:`THIN_OUTLINE` wide, the regions
+    that would be thinner than that on the page; returns their materials.
+
+    A region's thickness is taken as 2·area/perimeter (exact for a long
+    strip: a board, a sheet, a foil). Outlines go over the material edges, so
+    a 12.5 mm board or a 0.5 mm sheet in a 2.6 m section keeps its colour.
+    """
+    (x0, _), (x1, _) = extent
+    points_per_unit = ax.get_window_extent().width / max(x1 - x0, 1e-12) * 72.0 / ax.figure.dpi
+    thin = set()
+    for region in model.regions:
+        v = np.asarray(region.vertices, float)
+        w = np.roll(v, -1, axis=0)
+        area = 0.5 * abs(float(np.sum(v[:, 0] * w[:, 1] - w[:, 0] * v[:, 1])))
+        perimeter = float(np.hypot(*(w - v).T).sum())
+        if perimeter <= 0 or 2 * area / perimeter * points_per_unit >= THIN_OUTLINE:
+            continue
+        thin.add(region.material)
+        ax.add_artist(Polygon(v, closed=True, fill=False, edgecolor=style[region.material]["fill"],
+                              linewidth=THIN_OUTLINE, zorder=4, joinstyle="miter",
+                              gid=f"thin-{region.material}"))
+    return thin
+
+
+#: In a close view, every mesh edge is drawn over the element-size map when the
+#: view holds at most this many triangles; more would blot the picture.
+MAX_DRAWN_EDGES_TRIANGLES = 6000
+
+
+def element_sizes(result) -> np.ndarray:
+    """Size of each triangle [length_unit]: the side of a square of twice its
+    area (the side of a right isosceles triangle of that area)."""
+    xy = result.mesh.nodes / result.model.metres_per_unit
+    p = xy[result.mesh.triangles]
+    e1, e2 = p[:, 1] - p[:, 0], p[:, 2] - p[:, 0]
+    return np.sqrt(np.abs(e1[:, 0] * e2[:, 1] - e1[:, 1] * e2[:, 0]))
+
+
+def mesh_figure(result, detail=False):
+    """The mesh as a map of element size, with boundary conditions along the outline.
+
+    Every edge of a fine mesh (some 10⁵ triangles) drawn at the size of a page
+    is a dark blot; the size of the elements, shaded on a log scale, shows
+    where the study refined at any mesh size. A close view that holds few
+    enough triangles (:data:`MAX_DRAWN_EDGES_TRIANGLES`) draws their edges too.
 
     Parameters
     ----------
     result : bridgecalc.results.Result
+    detail : bool
+        Draw the :func:`detail_window` only (there must be one).
 
     Returns
     -------
     matplotlib.figure.Figure
     """
+    import matplotlib.tri as mtri
+    from .layout import colour_bar
+    from .raster import field_image, pixel_grid
     model, mesh = result.model, result.mesh
     xy = mesh.nodes / model.metres_per_unit
-    extent = padded_extent(result)
+    extent = view(result, detail)
+    size = element_sizes(result)
+    lo, hi = float(size.min()), float(size.max())
+    hi = max(hi, lo * 1.0001)
     with plt.rc_context(STYLE):
         fig, ax, aspect = new_figure(
             result, model.name or "junction",
-            f"Mesh: {mesh.node_count} nodes, {mesh.triangle_count} triangles, "
-            f"{result.element} elements; outline by boundary condition", extent,
+            ("Mesh at the junction (detail): " if detail else "Mesh: ")
+            + f"{mesh.node_count} nodes, {mesh.triangle_count} triangles, "
+            f"{result.element} elements; shade = element size", extent,
             legend_rows("mesh", result))
-        style = material_colours(model)
-        for region in model.regions:
-            ax.add_artist(Polygon(np.asarray(region.vertices, float), closed=True,
-                                 facecolor=mcolors.to_rgba(style[region.material]["fill"], 0.4),
-                                 edgecolor="none"))
-        every = material_edges(mesh, np.arange(mesh.triangle_count))
-        fine = mesh.triangle_count > 8000          # thinner lines where the mesh is dense
-        ax.add_artist(segments_path(xy[every], edgecolor=INK, linewidth=0.07 if fine else 0.15,
-                                    alpha=0.85, gid="mesh-edges"))
+        triangulation = mtri.Triangulation(xy[:, 0], xy[:, 1], mesh.triangles)
+        gx, gy, px, py, cells = pixel_grid(fig, ax, extent, triangulation)
+        values = np.full(px.shape, np.nan)
+        values[cells >= 0] = size[cells[cells >= 0]]
+        shade = field_image(ax, gx, gy, values, cmap=MESH_CMAP,
+                            norm=mcolors.LogNorm(vmin=lo, vmax=hi), interpolation="nearest")
+        shade.set_gid("element-size")
+        names, codes = material_codes(result)
+        ax.add_artist(segments_path(xy[material_edges(mesh, codes)], edgecolor="white",
+                                   linewidth=0.6, alpha=0.8, gid="material-edges"))
+        (x0, y0), (x1, y1) = extent
+        centre = xy[mesh.triangles].mean(axis=1)
+        shown = ((centre[:, 0] >= x0) & (centre[:, 0] <= x1)
+                 & (centre[:, 1] >= y0) & (centre[:, 1] <= y1))
+        if detail and shown.sum() <= MAX_DRAWN_EDGES_TRIANGLES:
+            every = material_edges(mesh, np.arange(mesh.triangle_count))
+            ax.add_artist(segments_path(xy[every], edgecolor=INK, linewidth=0.12,
+                                        alpha=0.7, gid="mesh-edges"))
         handles = []
         for kind, seg in _outline_segments(result).items():
             if len(seg):
@@ -105,12 +174,34 @@ def mesh_figure(result):
                 handles.append(Line2D([], [], color=st["colors"], lw=st["linewidths"],
                                       ls=st["linestyles"], label=OUTLINE_LABEL[kind]))
         for j, p in _surface_label_points(result):
-            ax.annotate(f"S{j + 1}", p, fontsize=6.5, ha="center", va="center",
-                        color=INK, gid=f"surface-label-S{j + 1}",
-                        bbox=dict(boxstyle="round,pad=0.2", fc="white", ec=MUTED, lw=0.4))
+            if x0 <= p[0] <= x1 and y0 <= p[1] <= y1:
+                ax.annotate(f"S{j + 1}", p, fontsize=6.5, ha="center", va="center",
+                            color=INK, gid=f"surface-label-S{j + 1}",
+                            bbox=dict(boxstyle="round,pad=0.2", fc="white", ec=MUTED, lw=0.4))
         frame(ax, result, extent)
-        legend(fig, ax, handles, aspect, title="outline")
+        if not detail:
+            outline_detail(ax, result)
+        bar = colour_bar(fig, ax, shade, aspect,
+                         f"element size [{model.length_unit}], log scale", length=0.45)
+        _plain_log_ticks(bar, aspect)
+        legend(fig, ax, handles, aspect, title="outline", below=bar)
     return fig
+
+
+#: Element sizes: light where elements are large, dark where the study refined.
+MESH_CMAP = "bone"
+
+
+def _plain_log_ticks(bar, aspect):
+    from matplotlib.ticker import LogFormatter
+
+    class Plain(LogFormatter):
+        def _num_to_string(self, x, vmin, vmax):
+            return f"{x:g}"
+    from .catalogue import side_or_below
+    axis = bar.ax.yaxis if side_or_below(aspect) else bar.ax.xaxis
+    axis.set_major_formatter(Plain())
+    axis.set_minor_formatter(Plain(labelOnlyBase=False))
 
 
 def _outline_segments(result):

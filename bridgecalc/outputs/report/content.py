@@ -28,7 +28,8 @@ FIGURE_CAPTIONS = MappingProxyType({
     "materials": "Materials as modelled, regions drawn in file order (a later region "
                  "covers an earlier one). Fill lightness follows λ on a log scale; hatches "
                  "tell materials apart.",
-    "mesh": "The finite-element mesh and the boundary conditions on the outline. S1, S2, ... "
+    "mesh": "The finite-element mesh as the size of its elements (log scale: dark where the "
+            "refinement concentrated) and the boundary conditions on the outline. S1, S2, ... "
             "are the surfaces of the inputs table; unmarked dotted edges are adiabatic "
             "cut-off or symmetry planes.",
     "temperature": "Temperatures of the surface-temperature case (surface resistances for "
@@ -39,6 +40,10 @@ FIGURE_CAPTIONS = MappingProxyType({
                         "dashed box marks this window.",
     "temperature_detail": "Temperatures at the junction: a close view of the figure before, "
                           "whose dashed box marks this window; isotherms and θsi,min as there.",
+    "mesh_detail": "The mesh at the junction: a close view of the figure before, whose "
+                   "dashed box marks this window.",
+    "heat_flux_detail": "Heat-flux density at the junction: a close view of the figure "
+                        "before, whose dashed box marks this window.",
     "heat_flux": "Heat-flux density |q| = |−λ∇θ| per triangle in the heat-flow case, on a "
                  "log scale; arrows show the direction of heat flow only.",
     "moisture": "ISO 13788 monthly check: bars, the temperature factor fRsi,min each month "

@@ -1,0 +1,125 @@
+"""Rendered figures carry what a reviewer must read.
+
+Checks on the figures as drawn: isotherm labels upright (a text turned by
+more than a quarter turn reads upside down: "6" as "9"), a close view of the
+junction where it is small in a large section and none where the section is
+compact, every material's colour present in the raster at the rendered size
+(thin parts included), and the θsi,min marker inside the close view. The
+references are the drawings' own geometry: the model's coordinates, its
+materials' colours, and where the demo's coldest point lies (a corner of the
+slab at the wall's interior face, checked against the model in
+tests/outputs/test_report.py).
+"""
+
+import io
+
+import numpy as np
+import pytest
+from PIL import Image
+
+from bridgecalc.api import load, run
+from bridgecalc.outputs import figures
+from bridgecalc.outputs.figures import files, isotherms
+from bridgecalc.readers.modelfile import loads
+
+from conftest import thin_layer_models
+
+
+def _labels(fig):
+    """The isotherm labels of a temperature figure."""
+    ax = fig.axes[0]
+    return [t for c in ax.collections for t in getattr(c, "labelTexts", [])]
+
+
+def _pixels(fig):
+    with Image.open(io.BytesIO(files._render_png(fig, figures.PNG_DPI))) as im:
+        return np.asarray(im.convert("RGB"), dtype=int)
+
+
+def test_upright_turns_every_direction_to_a_readable_one():
+    # a line direction and its reverse are the same line: 180° apart
+    for degrees in range(-720, 721, 5):
+        r = isotherms.upright(degrees)
+        assert -90 < r <= 90
+        assert (r - degrees) % 180 == pytest.approx(0) or \
+            (r - degrees) % 180 == pytest.approx(180)
+
+
+def test_isotherm_labels_are_upright_in_the_whole_and_the_close_view(demo):
+    for name in ("temperature", "temperature_detail"):
+        fig = figures.build_figure(name, demo)
+        try:
+            labels = _labels(fig)
+            assert len(labels) >= 5, name
+            for text in labels:
+                turn = (text.get_rotation() + 180.0) % 360.0 - 180.0
+                assert -90.0 <= turn <= 90.0, (name, text.get_text(), text.get_rotation())
+        finally:
+            figures.plt.close(fig)
+
+
+def test_a_small_junction_gets_close_views_and_a_compact_section_none(demo, geometries):
+    """The demo's slab crosses a wall 2.6 m high and runs 1.9 m out: its
+    junction (the slab in the wall, some 0.4 × 0.22 m) is small against the
+    section. The timber stud's 0.6 m section is the stud bay itself."""
+    window = figures.detail_window(demo)
+    assert window is not None
+    (x0, y0), (x1, y1) = window
+    # the slab's passage through the wall: x 0 to 400 mm, y 0 to 220 mm
+    assert x0 <= 0 and x1 >= 400 and y0 <= 0 and y1 >= 220
+    assert max(x1 - x0, y1 - y0) <= 0.5 * 2900          # a close view, not the whole
+    names = figures.figure_names(demo)
+    for whole in ("materials", "mesh", "temperature", "heat_flux"):
+        assert names.index(f"{whole}_detail") == names.index(whole) + 1
+    compact = run(load(geometries / "timber_stud.py"), refinement=None)
+    assert figures.detail_window(compact) is None
+    assert figures.figure_names(compact) == figures.FIGURES
+
+
+def test_the_close_view_frame_is_marked_on_the_whole(demo):
+    fig = figures.build_figure("heat_flux", demo)
+    try:
+        frames = [a for a in fig.axes[0].get_children() if a.get_gid() == "detail-window"]
+        assert len(frames) == 1
+        (x0, y0), (x1, y1) = figures.detail_window(demo)
+        corners = frames[0].get_xy()
+        assert corners[:, 0].min() == pytest.approx(x0) and corners[:, 1].max() == \
+            pytest.approx(y1)
+    finally:
+        figures.plt.close(fig)
+
+
+def test_the_coldest_point_is_marked_inside_the_close_view(demo):
+    fig = figures.build_figure("temperature_detail", demo)
+    try:
+        ax = fig.axes[0]
+        markers = [line for line in ax.lines if line.get_gid() == "theta-si-min-marker"]
+        assert len(markers) == 1
+        x, y = markers[0].get_xydata()[0]
+        assert (x, y) == pytest.approx(demo.surface_temperature_case.theta_si_min_at)
+        (x0, x1), (y0, y1) = ax.get_xlim(), ax.get_ylim()
+        assert x0 < x < x1 and y0 < y < y1
+    finally:
+        figures.plt.close(fig)
+
+
+def test_every_material_shows_its_colour_even_a_thin_membrane():
+    """A 2 mm membrane in a 2 m wall is 0.3 pt on the page: outlined in its
+    own colour, it still shows, as every other material does."""
+    bench = thin_layer_models()
+    model = loads(bench.wall_text("membrane 2 mm", [("concrete", 198), ("membrane", 2),
+                                                    ("insulation", 160)]))
+    result = run(model, tolerance=0.05)
+    fig = figures.build_figure("materials", result)
+    try:
+        pixels = _pixels(fig)
+        colours = figures.material_colours(model)
+        for name, style in colours.items():
+            rgb = np.round(np.asarray(style["fill"][:3]) * 255).astype(int)
+            present = (np.abs(pixels - rgb).max(axis=2) <= 2).sum()
+            assert present >= 50, (name, present)
+        legend = [t.get_text() for t in fig.legends[0].get_texts()]
+        assert any(t.startswith("membrane (thin: outlined)") for t in legend)
+        assert not any(t.startswith("concrete (thin") for t in legend)
+    finally:
+        figures.plt.close(fig)
