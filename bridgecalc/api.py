@@ -83,6 +83,12 @@ def export(model: Model, to) -> list[Path]:
     return write_model(model, to)
 
 
+def script_parameters(path) -> list:
+    """A geometry script's parameters as (name, default, unit, note), in its order
+    (:func:`bridgecalc.readers.script.parameter_table`)."""
+    return scripts.parameter_table(path)
+
+
 def geometries_folder() -> Path:
     """The junction library (geometry scripts) shipped with the package."""
     return Path(str(resources.files("bridgecalc.geometries")))

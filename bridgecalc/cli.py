@@ -68,6 +68,12 @@ def _parser() -> argparse.ArgumentParser:
 
     sub.add_parser("check", help="run the built-in validation cases against their "
                    "published references")
+    parameters = sub.add_parser(
+        "parameters", help="list a geometry script's parameters with units and defaults",
+        description="List the parameters a geometry script takes (set them with --set "
+                    "NAME=VALUE on run and sweep), each with its default, unit and note.",
+        epilog=library)
+    parameters.add_argument("script", metavar="SCRIPT", help="geometry script (.py)")
     demo = sub.add_parser("demo", help="compute the shipped demo junction")
     demo.add_argument("--out", metavar="DIR", help="output folder (default: a new "
                       "folder bridgecalc-demo in the current folder)")
@@ -205,6 +211,22 @@ def _print_model_warnings(model) -> None:
         print(f"warning: {warning}", file=sys.stderr)
 
 
+def command_parameters(args, stop=None) -> int:
+    source = Path(args.script)
+    if source.suffix != ".py":
+        raise BridgecalcError(f"{source}: parameters are those of a geometry script (.py)")
+    rows = api.script_parameters(source)
+    table = [("parameter", "default", "unit", "note")] + [
+        (name, str(default).lower() if isinstance(default, bool) else f"{default:g}"
+         if isinstance(default, float) else str(default), unit, note)
+        for name, default, unit, note in rows]
+    widths = [max(len(r[k]) for r in table) for k in range(3)]
+    print(f"{source.name}: {len(rows)} parameters; set them with --set NAME=VALUE")
+    for row in table:
+        print("  " + "  ".join(c.ljust(w) for c, w in zip(row[:3], widths)) + "  " + row[3])
+    return 0
+
+
 def command_check(args, stop=None) -> int:
     rows = api.check()
     print(api.format_checks(rows))
@@ -259,7 +281,8 @@ def main(argv=None) -> int:
     try:
         return {"run": command_run, "demo": command_demo, "check": command_check,
                 "sweep": command_sweep, "export": command_export,
-                "schedule": command_schedule}[args.command](args, stop)
+                "schedule": command_schedule,
+                "parameters": command_parameters}[args.command](args, stop)
     except BridgecalcError as exc:
         print(f"error: {exc}", file=sys.stderr)
         return 2

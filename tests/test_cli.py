@@ -329,3 +329,34 @@ def test_help_names_the_shipped_junction_library(capsys):
     out = " ".join(capsys.readouterr().out.split())
     assert "junction library" in out and "slab_edge" in out
     assert (geometries_folder() / "slab_edge.py").is_file()
+
+
+def test_parameters_lists_a_scripts_parameters_with_units_and_defaults(geometries, capsys):
+    """Every entry of the script's own PARAMETERS, with its default and the
+    unit its name or comment gives (geometries/balcony.py)."""
+    import importlib.util
+    spec = importlib.util.spec_from_file_location("balcony_script", geometries / "balcony.py")
+    script = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(script)
+    assert main(["parameters", str(geometries / "balcony.py")]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    rows = {line.split()[0]: line.split() for line in lines[2:]}
+    assert set(rows) == set(script.PARAMETERS)
+    assert rows["wall_thickness_mm"][1:3] == ["240", "mm"]
+    assert rows["break_conductivity_w_mk"][1:3] == ["0.15", "W/(m·K)"]
+    assert rows["thermal_break"][1] == "true"
+    assert main(["parameters", str(geometries / "nothing.py")]) == 2
+    assert capsys.readouterr().err.startswith("error: ")
+
+
+def test_summary_names_the_report_and_keeps_long_flanking_names(geometries, tmp_path, capsys):
+    import dataclasses
+    from bridgecalc import api
+    model = api.load(geometries / "slab_edge.py")
+    name = "external wall, masonry and EPS, both storeys"
+    model = dataclasses.replace(model, flanking=[dataclasses.replace(model.flanking[0],
+                                                                      name=name)])
+    result = api.run(model, refinement=None)
+    text = api.summary(result, tmp_path / "out")
+    assert f"U·l {name}" in text
+    assert str(tmp_path / "out" / "report.html") in text

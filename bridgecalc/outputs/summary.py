@@ -2,7 +2,10 @@
 
 from __future__ import annotations
 
+from pathlib import Path
+
 from ..results import printed_position
+from .report.html import REPORT_FILE
 from .verdicts import summary_lines as verdict_lines
 
 
@@ -30,7 +33,10 @@ def run_summary(result, out_dir) -> str:
             psi = "" if c.psi is None else f"   Ψ {c.psi:9.4f} W/(m·K)"
             lines.append(f"  L {pair[:16]:<16}{c.value:12.4f} W/(m·K){psi}")
     for f in hf.flanking:
-        lines.append(f"  U·l {f.name[:14]:<15}{f.ul:12.4f} W/(m·K)")
+        # the whole name: a long one takes a line of its own
+        label = f"U·l {f.name}"
+        lines.append(f"  {label:<19}{f.ul:12.4f} W/(m·K)" if len(label) <= 19 else
+                     f"  {label}\n  {'':<19}{f.ul:12.4f} W/(m·K)")
     if hf.psi is not None:
         lines.append(f"  Ψ                  {hf.psi:12.4f} W/(m·K)")
     at = printed_position(model, st.theta_si_min_at)
@@ -46,6 +52,7 @@ def run_summary(result, out_dir) -> str:
     if getattr(result, "convergence", None) is not None:
         lines.extend("  " + line for line in result.convergence.summary_lines())
     lines.append(f"  written to {out_dir}")
+    lines.append(f"  report             {Path(out_dir) / REPORT_FILE}")
     lines.append("  Results support, and do not replace, a qualified practitioner's judgement;")
     lines.append("  inputs and criteria must follow the codes in force where the building stands.")
     return "\n".join(lines)

@@ -118,3 +118,46 @@ def build(path, params=None, module=None) -> Model:
     if model.dimension_system is None and isinstance(stated, str):
         model.dimension_system = stated       # validated with the rest of the model
     return model
+
+
+#: Units read from the end of a parameter's name, when its comment gives none.
+NAME_UNITS = (("_w_mk", "W/(m·K)"), ("_m2k_w", "m²·K/W"), ("_mm", "mm"), ("_deg", "°"),
+              ("_c", "°C"), ("_m", "m"))
+
+
+def parameter_table(path) -> list[tuple[str, object, str, str]]:
+    """A geometry script's parameters: (name, default, unit, note) each, in its order.
+
+    The note is the comment on the parameter's line of ``PARAMETERS`` in the
+    script's source; the unit is the last ``[...]`` in that comment, or
+    follows from the name's ending (:data:`NAME_UNITS`), or is empty.
+
+    Raises
+    ------
+    ModelError
+        When ``path`` is no geometry script (:func:`load_module`).
+    """
+    import re
+    path = Path(path)
+    module = load_module(path)
+    comments = {}
+    try:
+        source = path.read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError):
+        source = ""
+    for line in source.splitlines():
+        found = re.match(r"""\s*["'](\w+)["']\s*:.*?#\s*(.*?)\s*$""", line)
+        if found and found.group(1) in module.PARAMETERS:
+            comments.setdefault(found.group(1), found.group(2))
+    rows = []
+    for name, default in module.PARAMETERS.items():
+        note = comments.get(name, "")
+        brackets = list(re.finditer(r"\[([^\[\]]+)\]", note))
+        unit = ""
+        if brackets:
+            unit = brackets[-1].group(1)
+            note = " ".join((note[:brackets[-1].start()] + note[brackets[-1].end():]).split())
+        else:
+            unit = next((u for suffix, u in NAME_UNITS if name.endswith(suffix)), "")
+        rows.append((name, default, unit, note))
+    return rows

@@ -151,7 +151,7 @@ def _plotted(ok: list[VariantResult]) -> list:
         first = (lambda m: m.psi, "Ψ [W/(m·K)]")
     else:
         first = (lambda m: m.coupling_coefficient, "L2D [W/(m·K)]")
-    return [first, (lambda m: m.f_rsi, "fRsi [-]")]
+    return [first, (lambda m: m.f_rsi, "fRsi at θsi,min [-]\n(θsi,min − θe)/(θi − θe)")]
 
 
 def notes_text(rows: list[VariantResult], vary: dict, script: str,

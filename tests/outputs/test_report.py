@@ -275,3 +275,18 @@ def test_stamp_is_cached_per_build(tmp_path, monkeypatch):
     assert (second.passed, second.failed) == (1, 1)
     assert re.fullmatch(r"\d{4}-\d\d-\d\dT\d\d:\d\d:\d\dZ", first.checked_at)
     assert os.listdir(tmp_path)
+
+
+@pytest.mark.skipif(PDFTOTEXT is None, reason="pdftotext not installed (poppler-utils)")
+def test_no_page_of_the_pdf_ends_with_a_lone_heading(written):
+    """Every heading of the report is followed, on its own page, by what it heads."""
+    headings = ["Result", "Inputs", "Results in detail", "Mesh refinement", "Figures",
+                "Validation stamp", "Cautions", "Files of this run"]
+    text = subprocess.run([PDFTOTEXT, "-layout", str(written / "report.pdf"), "-"], check=True,
+                          capture_output=True, text=True, timeout=60).stdout
+    for page in text.split("\f"):
+        lines = [line.strip() for line in page.splitlines() if line.strip()]
+        body = [line for line in lines if not line.startswith("page ")
+                and "· bridgecalc" not in line]
+        if body:
+            assert body[-1] not in headings, body[-3:]

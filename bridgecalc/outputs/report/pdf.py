@@ -136,9 +136,10 @@ def _flowables(report: Report, width: float, placed: list):
     out.append(rule)
     heading = None      # a heading waits to go on the page of the figure after it
     for block in report.blocks:
+        kept = None     # a heading kept on the page of the block after it
         if heading is not None and not isinstance(block, Figure):
-            out.append(heading)
-            heading = None
+            kept, heading = heading, None
+            start = len(out)
         if isinstance(block, Heading):
             heading = Paragraph(_text(block.text), s["h2"])
         elif isinstance(block, Para):
@@ -211,6 +212,9 @@ def _flowables(report: Report, width: float, placed: list):
             heading = None
         else:
             raise TypeError(f"unknown report block {block!r}")
+        if kept is not None:
+            # never a heading alone at the foot of a page (or on the last one)
+            out[start:start + 1] = [KeepTogether([kept] + out[start:start + 1])]
     if heading is not None:
         out.append(heading)
     return out
