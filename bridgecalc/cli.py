@@ -133,7 +133,7 @@ def _report_options(parser) -> None:
                              "(default: about a tenth of θi − θe)")
     parser.add_argument("--vector-figures", action="store_true",
                         help="write each figure as SVG and PDF too, for editing or "
-                             "printing at any scale (default: PNG only, at 300 dpi)")
+                             "printing at any scale (default: PNG only, at 200 dpi)")
 
 
 def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None, stop=None) -> Path:

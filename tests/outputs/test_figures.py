@@ -115,7 +115,7 @@ def test_mesh_figure_shows_each_boundary_condition_and_surface(demo):
         figures.plt.close(fig)
 
 
-def test_files_are_300_dpi_non_blank_and_repeatable(demo, tmp_path):
+def test_files_are_at_png_dpi_non_blank_and_repeatable(demo, tmp_path):
     fig = figures.build_figure("surface_temperature", demo, f_rsi_min=0.7)
     try:
         first = figures.save(fig, tmp_path / "a", figures.FORMATS)
@@ -126,7 +126,7 @@ def test_files_are_300_dpi_non_blank_and_repeatable(demo, tmp_path):
     for p, q in zip(first, second):
         assert p.read_bytes() == q.read_bytes(), p.name
     with Image.open(first[0]) as im:
-        assert im.info["dpi"][0] == pytest.approx(300, abs=0.5)
+        assert im.info["dpi"][0] == pytest.approx(figures.PNG_DPI, abs=0.5)
         pixels = np.asarray(im.convert("RGB"), dtype=float)
     assert pixels.std() > 10
     assert len(np.unique(pixels.reshape(-1, 3)[::50], axis=0)) > 20

@@ -1,7 +1,7 @@
 """Figures for envelope submissions; they plot results and never recompute physics.
 
 Five figures, each a :class:`matplotlib.figure.Figure` built by one function
-and written as PNG (300 dpi), and on request SVG and PDF too, by
+and written as PNG (200 dpi), and on request SVG and PDF too, by
 :func:`write_figures`:
 
 ``materials``, ``mesh``

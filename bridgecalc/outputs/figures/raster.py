@@ -11,7 +11,7 @@ import matplotlib
 import numpy as np
 
 
-#: Pixels per inch of plot for the sampled field images (shown at 300 dpi in PNG).
+#: Pixels per inch of plot for the sampled field images (shown at 200 dpi in PNG).
 FIELD_PPI = 200
 
 

@@ -161,7 +161,11 @@ def mesh_figure(result, detail=False):
         shown = ((centre[:, 0] >= x0) & (centre[:, 0] <= x1)
                  & (centre[:, 1] >= y0) & (centre[:, 1] <= y1))
         if detail and shown.sum() <= MAX_DRAWN_EDGES_TRIANGLES:
-            every = material_edges(mesh, np.arange(mesh.triangle_count))
+            near = np.flatnonzero(shown)
+            every = np.sort(np.concatenate([mesh.triangles[near][:, [0, 1]],
+                                            mesh.triangles[near][:, [1, 2]],
+                                            mesh.triangles[near][:, [2, 0]]]), axis=1)
+            every = np.unique(every, axis=0)
             ax.add_artist(segments_path(xy[every], edgecolor=INK, linewidth=0.12,
                                         alpha=0.7, gid="mesh-edges"))
         handles = []
