@@ -123,3 +123,25 @@ def test_every_material_shows_its_colour_even_a_thin_membrane():
         assert not any(t.startswith("concrete (thin") for t in legend)
     finally:
         figures.plt.close(fig)
+
+
+def test_the_profiles_distance_axis_is_marked_on_the_section(demo):
+    """The interior surface profile's distances, marked along the surface on
+    the temperature figure: "s = 0" at the start of the first run (the first
+    point of the model's first surface path), and every mark on the outline at
+    the distance it names (a wall face at x = 0 or the slab's faces)."""
+    fig = figures.build_figure("temperature", demo)
+    try:
+        marks = [a for a in fig.axes[0].texts if a.get_gid() == "profile-distance"]
+        assert len(marks) >= 4
+        start = [a for a in marks if a.get_text() == "s = 0"]
+        assert len(start) == 1
+        assert tuple(start[0].xy) == pytest.approx(demo.model.surfaces[0].path[0])
+        for mark in marks:
+            x, y = mark.xy
+            assert x == pytest.approx(0) or y == pytest.approx(0) or y == pytest.approx(220)
+        # the first run goes down the wall from y = 1420: 1000 along it is at y = 420
+        thousand = [a for a in marks if a.get_text() == "1000"]
+        assert thousand and tuple(thousand[0].xy) == pytest.approx((0.0, 420.0))
+    finally:
+        figures.plt.close(fig)

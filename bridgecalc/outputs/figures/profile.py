@@ -32,8 +32,7 @@ def surface_temperature_figure(result, f_rsi_min=None):
     sides = two_temperature_sides(model)
     profiles = interior_surface_profiles(model, case.field)
     unit = model.length_unit
-    total = sum(float(p.arc_length[-1]) for p in profiles)
-    gap = 0.04 * total if len(profiles) > 1 else 0.0
+    offsets, gap = profile_offsets(profiles)
     with plt.rc_context({**STYLE, "axes.facecolor": PAPER}):
         fig_h = PROFILE_HEIGHT
         fig = plt.figure(figsize=(PAGE_WIDTH, fig_h))
@@ -100,6 +99,19 @@ def surface_temperature_figure(result, f_rsi_min=None):
                          ncols=1, borderaxespad=0.0)
         leg.set_gid("legend")
     return fig
+
+
+def profile_offsets(profiles):
+    """Where each run of interior surface starts on the profile's distance axis
+    [length_unit], and the gap left between runs (4 % of their total length,
+    where the surface meets a cut-off plane)."""
+    total = sum(float(p.arc_length[-1]) for p in profiles)
+    gap = 0.04 * total if len(profiles) > 1 else 0.0
+    offsets, at = [], 0.0
+    for p in profiles:
+        offsets.append(at)
+        at += float(p.arc_length[-1]) + gap
+    return offsets, gap
 
 
 def _arc_position(profiles, at, gap):

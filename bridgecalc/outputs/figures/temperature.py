@@ -77,6 +77,7 @@ def temperature_figure(result, isotherm_step=None, detail=False):
                                 linewidths=0.55)
             label_isotherms(ax, iso, filled, avoid=[] if marker is None else [marker])
         draw_critical_isotherm(ax, triangulation, theta, result)
+        _mark_distances(ax, result, extent)
         if not detail:
             outline_detail(ax, result)
         colour_bar(fig, ax, filled, aspect, "temperature θ [°C]",
@@ -162,6 +163,38 @@ def _mark_minimum(ax, result, extent, grid):
     label.set_horizontalalignment("left" if dx > 0 else "right")
     label.set_verticalalignment("bottom" if dy > 0 else "top")
     return box
+
+
+def _mark_distances(ax, result, extent) -> None:
+    """The surface-temperature figure's distance axis, marked along the interior
+    surface: a tick and its distance [length_unit] at round steps (about six
+    across the view), "s = 0" where each run starts. A run ends at a cut-off
+    plane; the next starts after the profile's gap, as on its axis."""
+    from ...results import interior_surface_profiles
+    from .layout import nice_step
+    from .profile import profile_offsets
+    profiles = interior_surface_profiles(result.model, result.surface_temperature_case.field)
+    offsets, _ = profile_offsets(profiles)
+    (x0, y0), (x1, y1) = extent
+    step = nice_step(max(x1 - x0, y1 - y0) / 6)
+    for p, offset in zip(profiles, offsets):
+        s = p.arc_length + offset
+        first = np.ceil(s[0] / step - 1e-9) * step
+        marks = [s[0]] + [v for v in np.arange(first, s[-1] + 1e-9 * step, step)
+                          if v - s[0] > 0.3 * step]
+        for value in marks:
+            x = float(np.interp(value, s, p.points[:, 0]))
+            y = float(np.interp(value, s, p.points[:, 1]))
+            if not (x0 <= x <= x1 and y0 <= y <= y1):
+                continue
+            ax.plot([x], [y], marker="|" if abs(p.points[-1, 1] - p.points[0, 1]) <
+                    abs(p.points[-1, 0] - p.points[0, 0]) else "_", ms=5, mew=0.9,
+                    color=INK, zorder=6, gid="profile-distance-tick")
+            ax.annotate(("s = " if value == s[0] else "") + f"{value:g}", (x, y),
+                        xytext=(-3, 3), textcoords="offset points", ha="right", va="bottom",
+                        fontsize=5.5, color=INK, zorder=6, gid="profile-distance",
+                        bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none",
+                                  alpha=0.8))
 
 
 def environments_text(model) -> str:
