@@ -308,3 +308,11 @@ def test_interval_study_stops_on_guaranteed_intervals():
                 0.01 * max(abs(x.value) for x in conv.couplings.values()))
     assert interval.width <= 5e-3 * scale
     assert conv.couplings[("hot", "far")].fitted
+
+
+def test_summary_calls_the_theta_estimate_an_estimate(geometries):
+    """θsi,min has no guaranteed bound: the summary says its error figure is an estimate."""
+    result = run(load(geometries / "slab_edge.py"))
+    lines = [line for line in result.convergence.summary_lines() if "θsi,min" in line]
+    assert lines and "not a bound" in lines[0]
+    assert "guaranteed" not in lines[0]

@@ -326,6 +326,10 @@ class ConvergenceStudy:
                 lines.append(f"  estimated relative error of {self.label(key)}: "
                              f"{rel[key]:.2e} (target {self.tolerance:.1e})")
         lines.extend("  " + line for line in self.bounds_lines())
+        t = self.theta_si_min
+        if t is not None and math.isfinite(t.error_estimate):
+            lines.append(f"  θsi,min {t.value:.3f} °C, estimated error {t.error_estimate:.1e} K "
+                         "(an estimate from the mesh sequence, not a bound)")
         if self.iso_doubling_change is not None:
             lines.append(f"  ISO 10211 doubling check: heat flow changed by "
                          f"{100 * self.iso_doubling_change:.3f} % (limit 1 %)")
