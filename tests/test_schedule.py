@@ -171,7 +171,9 @@ def test_reuse_only_what_did_not_change(first, tmp_path, monkeypatch):
     out = tmp_path / "out"
     shutil.copytree(folder / "out", out)
     project = write_project(tmp_path)
+    chart = (out / "schedule_shares.png").read_bytes()
     again = run_schedule(project, out, workers=1, timeout=LIMIT_S)
+    assert (out / "schedule_shares.png").read_bytes() == chart
     assert again.computed == [] and again.reused == ["Balconies, south", "Wall corners"]
     assert numbers(again) == numbers(result)
     assert "Reused from the previous run" in (out / "schedule.html").read_text(encoding="utf-8")

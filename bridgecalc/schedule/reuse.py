@@ -129,7 +129,7 @@ def previous_entries(out_dir) -> dict:
     return found
 
 
-def _link_or_copy(source, target) -> None:
+def copy_file(source, target) -> None:
     """A hard link where the file system allows one (no data copied), else a copy."""
     try:
         os.link(source, target)
@@ -139,4 +139,4 @@ def _link_or_copy(source, target) -> None:
 
 def copy_folder(source: Path, target: Path) -> None:
     """The previous run's junction folder, into the new schedule's staging folder."""
-    shutil.copytree(source, target, copy_function=_link_or_copy)
+    shutil.copytree(source, target, copy_function=copy_file)

@@ -15,6 +15,7 @@ junctions that did not change are carried over from it (:mod:`.reuse`).
 
 from __future__ import annotations
 
+import dataclasses
 import json
 import textwrap
 from pathlib import Path
@@ -25,7 +26,8 @@ from ..sweep.runner import run_calls
 from .junction import JunctionOutcome, build_model, check_pair, compute_junction, no_psi_reason
 from .project import read_project
 from .report import CHART_STEM, HTML_FILE, PDF_FILE, schedule_report, share_chart
-from .reuse import SCHEDULE_FILE, copy_folder, previous_entries, reuse_key, tool_identity
+from .reuse import (SCHEDULE_FILE, copy_file, copy_folder, previous_entries, reuse_key,
+                    tool_identity)
 from .rows import CSV_FILE, JunctionRow, ScheduleResult, csv_text, row_of_failure
 
 #: Files of the schedule itself (the junctions' folders come besides).
@@ -84,7 +86,6 @@ def run_schedule(project_path, out_dir, *, workers: int | None = None,
     """
     project = read_project(project_path)
     if tolerance is not None:
-        import dataclasses
         project = dataclasses.replace(project, tolerance=tolerance)
     out_dir = Path(out_dir)
     check_schedule_folder(out_dir)
@@ -142,28 +143,65 @@ def run_schedule(project_path, out_dir, *, workers: int | None = None,
         for spec, outcome in zip(todo, outcomes):
             rows[spec.index] = JunctionRow(spec, outcome, False, rows[spec.index].reuse_key)
         result = ScheduleResult(project, rows, warnings, out_dir)
-        write_schedule_files(result, staging)
+        write_schedule_files(result, staging, out_dir if out_dir.is_dir() else None)
     return result
 
 
-def write_schedule_files(result: ScheduleResult, folder: Path) -> None:
-    """schedule.json, schedule.csv, the chart, schedule.html and schedule.pdf into ``folder``."""
-    from ..outputs import figures
+def _chart_key(result: ScheduleResult) -> str:
+    """What the chart shows (names, Ψ·l, H_TB), as a digest: an unchanged
+    chart is carried over from the previous run instead of drawn again."""
+    import hashlib
+    shown = [(r.spec.name, r.psi_length) for r in result.rows if r.ok]
+    text = json.dumps([shown, result.heat_transfer_coefficient, CHART_STEM])
+    return hashlib.sha256(text.encode("utf-8")).hexdigest()
+
+
+def _previous_chart(previous_dir, key: str):
+    """The previous run's chart files and size when they show the same, else None."""
+    if previous_dir is None:
+        return None
+    previous_dir = Path(previous_dir)
+    try:
+        data = json.loads((previous_dir / SCHEDULE_FILE).read_text(encoding="utf-8"))
+        chart = data["chart"]
+        size = (float(chart["size"][0]), float(chart["size"][1]))
+        same = chart["key"] == key
+    except (OSError, ValueError, KeyError, TypeError, IndexError):
+        return None
+    files = [previous_dir / f"{CHART_STEM}.{fmt}" for fmt in ("png", "pdf")]
+    return (files, size) if same and all(f.is_file() for f in files) else None
+
+
+def write_schedule_files(result: ScheduleResult, folder: Path, previous_dir=None) -> None:
+    """schedule.json, schedule.csv, the chart, schedule.html and schedule.pdf into ``folder``.
+
+    ``previous_dir``: the schedule's folder before this run, whose chart is
+    carried over when it shows the same numbers.
+    """
     from ..outputs.report import pdf as report_pdf
     from ..outputs.report.html import render_html
     data = result.to_dict()
+    chart, size = None, None
+    if any(r.ok for r in result.rows):
+        key = _chart_key(result)
+        previous = _previous_chart(previous_dir, key)
+        if previous is not None:
+            files, size = previous
+            for source in files:
+                copy_file(source, folder / source.name)
+        else:
+            from ..outputs import figures
+            fig = share_chart(result)
+            try:
+                size = tuple(float(v) for v in fig.get_size_inches())
+                figures.save(fig, folder / CHART_STEM, formats=("png", "pdf"), dpi=150)
+            finally:
+                figures.plt.close(fig)
+        chart = folder / f"{CHART_STEM}.png"
+        data["chart"] = {"key": key, "size": list(size)}
     (folder / SCHEDULE_FILE).write_text(json.dumps(data, indent=1, ensure_ascii=False) + "\n",
                                         encoding="utf-8")
     (folder / CSV_FILE).write_text(csv_text(result), encoding="utf-8")
-    chart, size = None, None
-    if any(r.ok for r in result.rows):
-        fig = share_chart(result)
-        try:
-            size = tuple(float(v) for v in fig.get_size_inches())
-            figures.save(fig, folder / CHART_STEM, formats=("png", "pdf"), dpi=150)
-        finally:
-            figures.plt.close(fig)
-        chart = folder / f"{CHART_STEM}.png"
     report = schedule_report(result, chart, size)
     (folder / HTML_FILE).write_text(render_html(report), encoding="utf-8")
     report_pdf.write_pdf(report, folder / PDF_FILE)
