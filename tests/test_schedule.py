@@ -290,3 +290,23 @@ def test_report_table_in_a_model_file_reads_writes_and_is_checked(tmp_path):
         modelfile.loads(model_text + '\n[report]\ndate = "2/12/2026"\n', "plate.toml")
     with pytest.raises(bridgecalc.ModelError, match=r"report\.checked: unknown key"):
         modelfile.loads(model_text + '\n[report]\nchecked = "B"\n', "plate.toml")
+
+
+def test_a_pdf_carries_its_reports_title_and_date_and_stays_deterministic(tmp_path):
+    """ReportLab's invariant mode dates a file 1 January 2000 (946684800 s,
+    reportlab.lib.utils.TimeStamp); the report's own date must replace it,
+    and the same report must still give the same bytes."""
+    import datetime as dt
+
+    from bridgecalc.model.title_block import report_date
+    from bridgecalc.outputs.report import blocks, pdf
+    report = blocks.Report("Block C, fictional", "subtitle", [blocks.Para("text")],
+                           "2026-12-02")
+    pdf.write_pdf(report, tmp_path / "a.pdf")
+    pdf.write_pdf(report, tmp_path / "b.pdf")
+    assert (tmp_path / "a.pdf").read_bytes() == (tmp_path / "b.pdf").read_bytes()
+    meta = PdfReader(tmp_path / "a.pdf").metadata
+    assert meta.title == "Block C, fictional"
+    assert meta.creation_date.date() == dt.date(2026, 12, 2)
+    assert meta.modification_date.date() == dt.date(2026, 12, 2)
+    assert report_date(None) == dt.date.today().isoformat()
