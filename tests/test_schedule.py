@@ -227,6 +227,7 @@ def test_a_failing_junction_gives_no_total_and_exit_1(first, tmp_path, capsys):
     html = (out / "schedule.html").read_text(encoding="utf-8")
     assert ("passes (mould" if own["moisture"]["passes"] else "FAILS (mould") in html
     assert "no total" in captured.out
+    assert "schedule: 1/1 junctions done" in captured.err          # the progress bar
     # the model states external dimensions, the project internal ones
     assert "junctions[0].model" in captured.err and "internal" in captured.err
 
