@@ -311,3 +311,28 @@ def test_a_pdf_carries_its_reports_title_and_date_and_stays_deterministic(tmp_pa
     assert meta.creation_date.date() == dt.date(2026, 12, 2)
     assert meta.modification_date.date() == dt.date(2026, 12, 2)
     assert report_date(None) == dt.date.today().isoformat()
+
+
+def test_more_than_two_environments_count_the_pair_named_by_between(tmp_path, capsys):
+    """Ψ_ij of the pair the project names, as the junction's own results.json
+    gives it (ISO 10211 coupling coefficients, addition A); without
+    `between`, exit 2 naming the key."""
+    docs = (GEOMETRIES.parent / "docs" / "model-format.md").read_text(encoding="utf-8")
+    garage = docs.split("<!-- file: garage.toml -->\n```toml\n", 1)[1].split("```", 1)[0]
+    (tmp_path / "garage.toml").write_text(garage, encoding="utf-8")
+    text = ('format = 1\nname = "Garage wing"\ndimension_system = "internal"\n'
+            f'tolerance = {TOLERANCE}\n\n[[junctions]]\nname = "Floor over the garage"\n'
+            'model = "garage.toml"\nlength = 10.0\n')
+    project = write_project(tmp_path, text)
+    assert main(["schedule", str(project), "--out", str(tmp_path / "out")]) == 2
+    err = capsys.readouterr().err
+    assert "junctions[0].between: missing" in err and "garage" in err
+    write_project(tmp_path, text + 'between = ["garage", "room"]\n')
+    result = run_schedule(project, tmp_path / "out", workers=1, timeout=LIMIT_S)
+    own = json.loads((tmp_path / "out" / result.rows[0].spec.folder / "results.json")
+                     .read_text(encoding="utf-8"))
+    pair = next(c for c in own["heat_flow_case"]["coupling_coefficients"]
+                if set(c["between"]) == {"room", "garage"})
+    assert result.rows[0].outcome.psi == pair["psi"]
+    assert result.heat_transfer_coefficient == pytest.approx(10.0 * pair["psi"], rel=1e-12)
+    assert result.rows[0].outcome.psi_error_estimate > 0
