@@ -23,6 +23,7 @@ from types import MappingProxyType
 import dataclasses
 
 from .assessments import assess as assess_result
+from .audit import audit, audit_texts
 from .errors import BridgecalcError, ModelError
 from .mesh import MeshOptions, build_mesh
 from .model import Model
@@ -103,7 +104,7 @@ def demo_model() -> Model:
 def run(model: Model, mesh_options: MeshOptions | None = None, element: str = "P1", *,
         tolerance: float = DEFAULT_TOLERANCE, max_nodes: int = DEFAULT_MAX_NODES,
         refinement: str | None = "adaptive", refine: float = 1.0,
-        f_rsi_min: float | None = None) -> Result:
+        f_rsi_min: float | None = None, strict: bool = False) -> Result:
     """Mesh and solve a model until the answer no longer depends on the mesh.
 
     Parameters
@@ -128,6 +129,11 @@ def run(model: Model, mesh_options: MeshOptions | None = None, element: str = "P
         ``mesh_options`` are given) [-]; the command line's ``--refine``.
     f_rsi_min : float, optional
         A temperature-factor criterion [-] to give a verdict on (``--f-rsi-min``).
+    strict : bool
+        Refuse, as errors, what would otherwise be warnings: the audit's
+        findings (:func:`bridgecalc.audit.audit`, checked before meshing) and
+        the run's own (an unfaced environment, heat flows that do not
+        balance); the command line's ``--strict``.
 
     Returns
     -------
@@ -136,14 +142,24 @@ def run(model: Model, mesh_options: MeshOptions | None = None, element: str = "P
         Ψ and L2D are the study's best (extrapolated) estimates (see
         :mod:`bridgecalc.study.convergence`); ``assessment`` holds the
         verdicts (:func:`assess`).
+        Its ``warnings`` carry the audit's findings, each with its place and
+        what to do.
+
+    Raises
+    ------
+    ModelError
+        For a model that breaks a rule, or, with ``strict``, one with warnings.
     """
     if not (isinstance(refine, (int, float)) and refine > 0):
         raise BridgecalcError(f"--refine must be a positive number, got {refine!r}")
     if mesh_options is None and refine != 1.0:
         mesh_options = dataclasses.replace(FIRST_MESH, refinement=refine)
     with one_blas_thread():
-        return assess_result(_run(model, mesh_options, element, tolerance, max_nodes,
-                                  refinement), f_rsi_min)
+        result = assess_result(_run(model, mesh_options, element, tolerance, max_nodes,
+                                    refinement, strict), f_rsi_min)
+    if strict:
+        _refuse_warnings(model, result.warnings)
+    return result
 
 
 def assess(result: Result, f_rsi_min: float | None = None) -> Result:
@@ -152,7 +168,7 @@ def assess(result: Result, f_rsi_min: float | None = None) -> Result:
     return assess_result(result, f_rsi_min)
 
 
-def _run(model, mesh_options, element, tolerance, max_nodes, refinement) -> Result:
+def _run(model, mesh_options, element, tolerance, max_nodes, refinement, strict) -> Result:
     model_rules.validate(model)
     unfaced = model_rules.unfaced_sides(model)   # these fail before meshing
     if "interior" in unfaced:
@@ -160,13 +176,27 @@ def _run(model, mesh_options, element, tolerance, max_nodes, refinement) -> Resu
     sides = model_rules.two_temperature_sides(model)
     if sides is not None:
         model_rules.check_temperature_difference(model, *sides)
-    warnings = list(unfaced.values())
+    findings = audit(model)
+    texts = audit_texts(model, findings)
+    warnings = list(unfaced.values()) + texts
+    if strict:
+        _refuse_warnings(model, warnings)
+    entries = [{**f.to_dict(), "text": text} for f, text in zip(findings, texts)]
     if refinement is None:
         cases = solve_cases(model, build_mesh(model, mesh_options), element)
-        return build_result(cases, None, element, warnings)
+        return build_result(cases, None, element, warnings, entries)
     outcome = converge(model, mesh_options, element, tolerance, max_nodes, refinement,
                        flanking_sums(model))
-    return build_result(outcome.cases, outcome.study, element, warnings)
+    return build_result(outcome.cases, outcome.study, element, warnings, entries)
+
+
+def _refuse_warnings(model: Model, warnings) -> None:
+    """``--strict``: every warning is an error."""
+    if warnings:
+        lines = "\n".join(f"  - {w}" for w in warnings)
+        raise ModelError(f"{model.origin}: --strict: {len(warnings)} "
+                         f"warning{'s' if len(warnings) > 1 else ''} refused, nothing "
+                         f"written:\n{lines}")
 
 
 def check() -> list:

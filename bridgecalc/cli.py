@@ -49,6 +49,7 @@ def _parser() -> argparse.ArgumentParser:
     run.add_argument("--max-nodes", dest="max_nodes", type=int, default=None, metavar="N",
                      help="node budget of the mesh-convergence study (default 250000)")
     _report_options(run)
+    _strict_option(run)
 
     export = sub.add_parser(
         "export", help="write a model as a self-contained model file or a DXF drawing",
@@ -78,6 +79,7 @@ def _parser() -> argparse.ArgumentParser:
     demo.add_argument("--out", metavar="DIR", help="output folder (default: a new "
                       "folder bridgecalc-demo in the current folder)")
     _report_options(demo)
+    _strict_option(demo)
 
     sweep = sub.add_parser(
         "sweep", help="compute every combination of geometry script parameters",
@@ -136,6 +138,13 @@ def _report_options(parser) -> None:
                              "printing at any scale (default: PNG only, at 200 dpi)")
 
 
+def _strict_option(parser) -> None:
+    parser.add_argument("--strict", action="store_true",
+                        help="treat warnings (the model audit's findings: gaps, stray "
+                             "adiabatic edges, surfaces that stop short, ...) as errors: "
+                             "exit 2 and write nothing")
+
+
 def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None, stop=None) -> Path:
     f_rsi_min = getattr(args, "f_rsi_min", None)
     isotherm_step = getattr(args, "isotherm_step", None)
@@ -144,7 +153,8 @@ def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None, st
     max_nodes = getattr(args, "max_nodes", None)
     result = api.run(model, None, element, refine=refine, f_rsi_min=f_rsi_min,
                      tolerance=api.DEFAULT_TOLERANCE if tolerance is None else tolerance,
-                     max_nodes=api.DEFAULT_MAX_NODES if max_nodes is None else max_nodes)
+                     max_nodes=api.DEFAULT_MAX_NODES if max_nodes is None else max_nodes,
+                     strict=getattr(args, "strict", False))
     api.write_outputs(result, out_dir, f_rsi_min=f_rsi_min, isotherm_step=isotherm_step,
                       stop=stop, vector_figures=getattr(args, "vector_figures", False))
     print(api.summary(result, out_dir))

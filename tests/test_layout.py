@@ -20,7 +20,7 @@ from conftest import ROOT
 PACKAGE = ROOT / "bridgecalc"
 
 #: Stages in data-path order; a module's stage is its first path part.
-STAGES = ["__init__", "errors", "physics", "model", "readers", "mesh", "solve", "study",
+STAGES = ["__init__", "errors", "physics", "model", "readers", "audit", "mesh", "solve", "study",
           "results", "assessments", "validation", "outputs", "sweep", "schedule", "api", "cli",
           "__main__"]
 

@@ -44,6 +44,10 @@ class Result:
         What :mod:`bridgecalc.assessments` made of the result (verdicts on
         criteria, the ISO 13788 check); it adds its keys to results.json
         through its ``add_to(results)``.
+    audit : list of dict
+        The audit's findings (:func:`bridgecalc.audit.audit`), each with
+        ``rule``, ``at`` [length_unit], ``message``, ``action`` and ``text``,
+        the line it has in ``warnings``.
     """
 
     model: Model
@@ -55,6 +59,7 @@ class Result:
     warnings: list = dataclasses.field(default_factory=list)
     cases: UnitCases | None = dataclasses.field(default=None, repr=False)
     assessment: object = None
+    audit: list = dataclasses.field(default_factory=list)
 
     @property
     def psi(self):
@@ -115,11 +120,13 @@ class Result:
             out["warnings"] = list(self.warnings)
         if self.assessment is not None:
             self.assessment.add_to(out)
+        if self.audit:
+            out["audit"] = [dict(finding) for finding in self.audit]
         return out
 
 
 def build_result(cases: UnitCases, study: ConvergenceStudy | None, element: str,
-                 warnings=()) -> Result:
+                 warnings=(), audit=()) -> Result:
     """The Result of the finest mesh's cases and the study, checked.
 
     Raises
@@ -130,7 +137,7 @@ def build_result(cases: UnitCases, study: ConvergenceStudy | None, element: str,
     heat = heat_flow_case(cases, study)
     surface = surface_temperature_case(cases)
     result = Result(cases.model, cases.problem.mesh, element, heat, surface, study,
-                    list(warnings), cases)
+                    list(warnings), cases, audit=list(audit))
     return checked(result)
 
 

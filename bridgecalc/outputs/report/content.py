@@ -18,6 +18,7 @@ from ... import __version__
 from ...assessments import f_rsi_verdict
 from ...results import CAUTION, printed_position
 from . import couplings, moisture
+from .audit import audit_blocks, audit_texts
 from .bounds import bounds_blocks
 from .blocks import Figure, Heading, KeyFigures, Para, Report, Table
 from .numbers import g_text as _g, n_text as _n, point_text as _point
@@ -220,7 +221,8 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
     subtitle = (f"Two-dimensional steady conduction to ISO 10211 · bridgecalc {__version__} · "
                 f"model {model.origin} · inputs fingerprint {model_fingerprint(model)}")
     date = report_date(model.report)
-    blocks: list = [title_block_table(model.report, date)]
+    blocks: list = [title_block_table(model.report, date),
+                    *audit_blocks(data, lambda at: printed_position(model, at).replace("-", "−"))]
 
     # -- summary
     blocks.append(Heading(2, "Result", "result"))
@@ -250,6 +252,8 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
     moisture.key_figure(key, data)
     blocks.append(key)
     for warning in warnings:
+        if warning in audit_texts(data):
+            continue                        # in the audit's block above
         blocks.append(Para(f"Warning: {warning}. These numbers must not be used as they "
                            f"stand.", "fail"))
     where = _surface_of_minimum(result)
@@ -273,7 +277,9 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
     elif verdict == "not assessed":
         blocks.append(Para(
             f"NOT ASSESSED against the criterion given for this run (fRsi ≥ {_g(f_rsi_min)}): "
-            f"the warning above makes this fRsi meaningless.", "fail"))
+            + ("the warning above makes this fRsi meaningless."
+               if set(warnings) - audit_texts(data)
+               else "the model audit's findings above must be checked first."), "fail"))
     else:
         blocks.append(Para(
             f"No fRsi criterion was given for this run (bridgecalc run --f-rsi-min), so no "
