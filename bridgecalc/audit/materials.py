@@ -4,6 +4,7 @@ decimal point, a heat transfer coefficient given for a resistance)."""
 
 from __future__ import annotations
 
+from ..model.types import HELD_RESISTANCE
 from .findings import Finding
 from .layout import Layout
 
@@ -72,7 +73,8 @@ def resistances(layout: Layout) -> list[Finding]:
     def hint(value):
         return (f"a heat transfer coefficient h in W/(m²·K)? The resistance is 1/h = "
                 f"{1 / value:.3g} m²·K/W" if value > high else
-                "0 holds the surface at the environment's temperature")
+                f"0, or anything up to {HELD_RESISTANCE:g} m²·K/W, holds the surface at the "
+                f"environment's temperature, and is taken so")
 
     for i, surface in enumerate(model.surfaces):
         at = tuple(float(c) for c in surface.path[0])

@@ -32,7 +32,21 @@ ABSOLUTE_ZERO = -273.15
 #: coordinates lose their meaning in the geometry checks (1e200² overflows).
 MAX_COORDINATE = 1e9
 
+#: Surface resistances at or below this are taken as 0, the surface held at
+#: its environment's temperature [m²·K/W]. Beside the resistance of any
+#: building element (0.1 m²·K/W and more with its surfaces) such a
+#: resistance changes a heat flow by less than 1e-8 relative, far below the
+#: study's tolerance, while its coefficient 1/R would swamp the matrix or
+#: overflow (R = 5e-324 gives 1/R = inf).
+HELD_RESISTANCE = 1e-9
+
 Point = tuple[float, float]
+
+
+def holds_temperature(resistance: float) -> bool:
+    """Whether a surface of this resistance [m²·K/W] is held at its
+    environment's temperature (:data:`HELD_RESISTANCE`)."""
+    return resistance <= HELD_RESISTANCE
 
 
 @dataclass(frozen=True)
@@ -156,8 +170,8 @@ class Surface:
     environment : str
         Name of the environment the edges face.
     resistance : float
-        Surface resistance for heat flow and Ψ [m²·K/W]; 0 holds the surface
-        at the environment temperature.
+        Surface resistance for heat flow and Ψ [m²·K/W]; 0 (or at most
+        :data:`HELD_RESISTANCE`) holds the surface at the environment temperature.
     path : tuple of (x, y)
         Polyline [length_unit]; every outline edge lying on it gets this
         condition.

@@ -97,6 +97,9 @@ def loads(text: str, origin: str = "<string>") -> Model:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         check.fail("", f"not a valid TOML file: {exc}")
+    except RecursionError:       # arrays or inline tables nested thousands deep
+        check.fail("", "arrays or inline tables are nested too deeply to read; a model "
+                       "file nests at most a few levels (a polygon's holes: three)")
     except ValueError:           # Python's limit on converting long integers
         check.fail("", "a number in the file has too many digits to read "
                        f"(over {sys.get_int_max_str_digits()})")

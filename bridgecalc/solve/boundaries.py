@@ -6,7 +6,8 @@ A surface Γj faces its environment at θj through a surface resistance Rj
 * :class:`ResistanceBoundary`, Rj > 0: the flux condition −λ∂θ/∂n = hj(θ − θj),
   hj = 1/Rj, adds hj ∫Γj θ v dΓ to the matrix and hj θj ∫Γj v dΓ to the load;
   the heat flow into the model is hj (θj |Γj| − ∫Γj θ dΓ);
-* :class:`HeldBoundary`, Rj = 0: θ = θj on Γj; its degrees of freedom are
+* :class:`HeldBoundary`, Rj = 0 (or at most ``model.types.HELD_RESISTANCE``):
+  θ = θj on Γj; its degrees of freedom are
   eliminated, and the heat flow into the model is the residual of the
   discrete equations at them (consistent boundary flux), so the flows balance
   to round-off;
@@ -27,6 +28,7 @@ import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components
 
 from ..mesh import Mesh
+from ..model.types import holds_temperature
 
 
 @dataclass(frozen=True)
@@ -82,7 +84,7 @@ def boundary_kinds(resistances) -> list:
     for j, r in enumerate(resistances):
         if r is None or math.isinf(r):
             kinds.append(None)
-        elif r > 0:
+        elif not holds_temperature(r):
             kinds.append(ResistanceBoundary(j, float(r)))
         else:
             kinds.append(HeldBoundary(j))

@@ -42,6 +42,7 @@ from scipy.sparse.linalg import splu
 
 from ..mesh import Mesh
 from ..mesh.refinement import edge_table
+from ..model.types import holds_temperature
 from .assembly import p1_gradients, triangle_areas
 
 
@@ -141,8 +142,9 @@ class Equilibrator:
             on = fs.surface == j
             if r is None or not np.isfinite(r):
                 continue
-            kind[on] = 2 if r > 0 else 3
-            self.edge_resistance[on] = r if r > 0 else 0.0
+            held = holds_temperature(r)          # as the solve has it (boundaries.py)
+            kind[on] = 3 if held else 2
+            self.edge_resistance[on] = 0.0 if held else r
         self.kind = kind
         # unknowns: (vertex, edge) shares x_E^a; adiabatic outline edges carry none
         e_nodes = fs.edges

@@ -21,6 +21,7 @@ import numpy as np
 
 from ..mesh.refinement import edge_table
 from ..solve.assembly import p1_gradients
+from ..model.types import holds_temperature
 
 
 #: Dörfler bulk parameter: mark the fewest triangles holding this share of η² [-].
@@ -100,7 +101,7 @@ def energy_error_indicators(problem, field, conditions) -> np.ndarray:
         on = mesh.boundary_surface == j
         if cond is None:
             continue
-        if cond.resistance > 0:
+        if not holds_temperature(cond.resistance):
             h = 1.0 / cond.resistance
             # −λ∂θ/∂n = q·n should equal h(θ − θj): residual h(θj − θ) + q·n... signed
             ra[on] = h * (theta[b[on, 0]] - cond.temperature) - q_out[on]
