@@ -308,6 +308,19 @@ def fresh_folder(base) -> Path:
     return first_free(Path(base))
 
 
+def check_out_folder(out_dir) -> None:
+    """Refuse, before any work, an output folder a run may not replace: a
+    file, a path through a file, or a folder holding anything but an earlier
+    run (:func:`bridgecalc.outputs.check_replaceable`).
+
+    Raises
+    ------
+    BridgecalcError
+    """
+    from .outputs import check_replaceable
+    check_replaceable(Path(out_dir))
+
+
 def stop_request():
     """An object that, installed as a signal handler, stops a run being written
     without leaving anything behind (:class:`bridgecalc.outputs.StopRequest`)."""

@@ -35,7 +35,8 @@ def _parser() -> argparse.ArgumentParser:
                          epilog=library)
     run.add_argument("model", metavar="MODEL", help="model file (.toml) or geometry script (.py)")
     run.add_argument("--out", metavar="DIR", help="output folder (default: a new folder "
-                     "named after the model, in the current folder)")
+                     "named after the model, in the current folder); one holding an earlier "
+                     "run is replaced whole, one holding anything else is refused")
     run.add_argument("--set", dest="assignments", metavar="NAME=VALUE", action="append",
                      default=[], help="geometry script parameter (repeatable)")
     run.add_argument("--element", choices=("P1", "P2"), default="P1",
@@ -164,14 +165,9 @@ def _run_and_write(model, out_dir: Path, element="P1", refine=1.0, args=None, st
 
 
 def check_out_folder(out_dir: Path) -> None:
-    """Refuse, before any work, an output folder that is, or lies in, a file."""
-    for path in (out_dir, *out_dir.parents):
-        if path.exists():
-            if path == out_dir and not path.is_dir():
-                raise BridgecalcError(f"--out {out_dir}: exists and is not a folder")
-            if not path.is_dir():
-                raise BridgecalcError(f"--out {out_dir}: {path} is not a folder")
-            return
+    """Refuse, before any work, an output folder a run may not replace
+    (:func:`bridgecalc.api.check_out_folder`)."""
+    api.check_out_folder(out_dir)
 
 
 def command_run(args, stop=None) -> int:
@@ -253,8 +249,7 @@ def command_sweep(args, stop=None) -> int:
         raise BridgecalcError(f"--workers must be at least 1, got {args.workers}")
     out_dir = Path(args.out) if args.out else api.fresh_folder(Path.cwd()
                                                                / f"{source.stem}-sweep")
-    if out_dir.exists() and not out_dir.is_dir():
-        raise BridgecalcError(f"--out {out_dir}: exists and is not a folder")
+    check_out_folder(out_dir)
     start = time.perf_counter()
     rows = api.sweep(source, vary, fixed, workers=args.workers, scheduler=args.scheduler,
                      progress=True)

@@ -23,12 +23,13 @@ not import matplotlib or ReportLab: a helper process is forked before they
 load.
 """
 
-from .folder import StopRequest, fresh_folder, staged_folder
+from .folder import StopRequest, check_replaceable, fresh_folder, staged_folder
 from .report import REPORT_FILE, REPORT_PDF_FILE
 from .results_file import RESULTS_FILE, results_json
 from .workers import end_with_parent
 from .write import check_options, write_outputs
 
 __all__ = ("RESULTS_FILE", "REPORT_FILE", "REPORT_PDF_FILE", "StopRequest", "check_options",
+           "check_replaceable",
            "end_with_parent", "fresh_folder", "results_json", "staged_folder",
            "write_outputs")

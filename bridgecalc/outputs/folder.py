@@ -2,7 +2,8 @@
 
 Everything is written into a staging folder beside the destination and moved
 into place at the end, so a failed or stopped run leaves nothing half-written
-(:func:`staged_folder`). Staging folders of runs killed outright, which could
+(:func:`staged_folder`). A destination holding an earlier run is replaced
+whole; one holding anything else is refused (:func:`check_replaceable`). Staging folders of runs killed outright, which could
 not remove their own, are removed by the next run to the same destination.
 """
 
@@ -50,15 +51,81 @@ class StopRequest:
             raise SystemExit(self.status)
 
 
+#: The file each output folder carries: the names of the run's files, so that
+#: a later run may tell its own folder from one that holds anything else.
+RUN_MARKER = ".bridgecalc-run"
+
+
+def check_replaceable(out_dir) -> None:
+    """Refuse, before any work, an ``--out`` a run may not write to.
+
+    A run's folder is replaced whole: it may be missing, empty, or hold an
+    earlier run (its :data:`RUN_MARKER` lists every file there), and then
+    none of the earlier files survive beside the new ones (no stale figure of
+    another model). A folder that holds anything else is the user's, and is
+    refused, as are a file and a path through a file.
+
+    Raises
+    ------
+    BridgecalcError
+        Naming the folder and what is in the way.
+    """
+    out_dir = Path(out_dir)
+    for path in (out_dir, *out_dir.parents):
+        if not path.exists():
+            continue
+        if path == out_dir and not path.is_dir():
+            raise BridgecalcError(f"--out {out_dir}: exists and is not a folder")
+        if not path.is_dir():
+            raise BridgecalcError(f"--out {out_dir}: {path} is not a folder")
+        break
+    if not out_dir.is_dir():
+        return
+    entries = sorted(p.name for p in out_dir.iterdir())
+    if not entries:
+        return
+    listed = _listed_files(out_dir)
+    if listed is None:
+        shown = ", ".join(entries[:3]) + (", ..." if len(entries) > 3 else "")
+        raise BridgecalcError(
+            f"--out {out_dir}: the folder holds files that are not an earlier bridgecalc "
+            f"run ({shown}); a run replaces its folder whole, so choose a new or empty "
+            f"folder, or move those files away")
+    others = [name for name in entries if name != RUN_MARKER and name not in listed]
+    if others:
+        shown = ", ".join(others[:3]) + (", ..." if len(others) > 3 else "")
+        raise BridgecalcError(
+            f"--out {out_dir}: the folder holds an earlier run and also {shown}, which the "
+            f"run did not write; a run replaces its folder whole, so move those away or "
+            f"choose another folder")
+
+
+def _listed_files(out_dir: Path) -> set | None:
+    """The names an earlier run's marker lists, or None when there is no
+    readable marker."""
+    import json
+    marker = out_dir / RUN_MARKER
+    try:
+        data = json.loads(marker.read_text(encoding="utf-8"))
+        files = data["files"]
+    except (OSError, ValueError, KeyError, TypeError):
+        return None
+    if not (isinstance(files, list) and all(isinstance(f, str) for f in files)):
+        return None
+    return set(files)
+
+
 @contextlib.contextmanager
-def staged_folder(out_dir, stop: StopRequest | None = None, whole: bool = False):
-    """A staging folder whose files land in ``out_dir`` only if the block succeeds.
+def staged_folder(out_dir, stop: StopRequest | None = None, whole: bool = True):
+    """A staging folder that replaces ``out_dir`` whole, only if the block succeeds.
 
     The staging folder is made beside ``out_dir`` (same file system, so the
-    move is a rename). On success it becomes ``out_dir``, or, when that exists,
-    its files replace those of the same names there; on any failure it is
-    removed and nothing of the run remains. The folder gets the permissions
-    the user's umask gives a new folder (a temporary folder starts as 0700).
+    move is a rename). On success it becomes ``out_dir``; an earlier run's
+    folder there is moved aside first and removed (:func:`check_replaceable`
+    refuses any other folder); on any failure the staging folder is removed
+    and nothing of the run remains. The folder gets the permissions the
+    user's umask gives a new folder (a temporary folder starts as 0700), and
+    :data:`RUN_MARKER`, the list of its files.
 
     Parameters
     ----------
@@ -66,45 +133,39 @@ def staged_folder(out_dir, stop: StopRequest | None = None, whole: bool = False)
     stop : StopRequest, optional
         Once it has recorded a stop, the block counts as failed.
     whole : bool
-        Replace an existing ``out_dir`` as a whole (a schedule's folder, whose
-        junction folders are replaced with it) instead of file by file.
+        Kept for callers that asked for a whole replacement (a schedule's
+        folder); every folder is now replaced whole.
     """
+    import json
     out_dir = Path(out_dir)
+    check_replaceable(out_dir)
     out_dir.parent.mkdir(parents=True, exist_ok=True)
     _remove_abandoned_staging(out_dir)
-    staging = Path(tempfile.mkdtemp(prefix=_staging_prefix(out_dir) + f"{os.getpid()}.",
-                                    dir=out_dir.parent))
+    prefix = _staging_prefix(out_dir) + f"{os.getpid()}."
+    staging = Path(tempfile.mkdtemp(prefix=prefix, dir=out_dir.parent))
     try:
         yield staging
         if stop is not None:
             stop.check()
+        files = sorted(p.name for p in staging.iterdir())
+        (staging / RUN_MARKER).write_text(json.dumps({"files": files}) + "\n",
+                                          encoding="utf-8")
         umask = os.umask(0)
         os.umask(umask)
         os.chmod(staging, 0o777 & ~umask)
-        if not out_dir.exists():
-            os.replace(staging, out_dir)
-        elif whole:
-            # the old folder steps aside under a staging name (removed by a
-            # later run if this one is killed now), the new one takes its place
-            old = staging.with_name(staging.name + ".replaced")
-            os.replace(out_dir, old)
+        check_replaceable(out_dir)           # as at the start: nothing came in meanwhile
+        if out_dir.is_dir() and any(out_dir.iterdir()):
+            earlier = Path(tempfile.mkdtemp(prefix=prefix, suffix=".earlier",
+                                            dir=out_dir.parent))
+            os.replace(out_dir, earlier / "run")
             try:
                 os.replace(staging, out_dir)
             except BaseException:
-                os.replace(old, out_dir)
+                os.replace(earlier / "run", out_dir)
                 raise
-            shutil.rmtree(old, ignore_errors=True)
+            shutil.rmtree(earlier, ignore_errors=True)
         else:
-            items = sorted(staging.iterdir())
-            # every file must be able to replace its namesake before any does
-            for item in items:
-                if (out_dir / item.name).is_dir():
-                    raise BridgecalcError(f"--out {out_dir}: {out_dir / item.name} is a "
-                                          f"folder, so the run's {item.name} cannot replace "
-                                          f"it; move it away or choose another --out")
-            for item in items:
-                os.replace(item, out_dir / item.name)
-            staging.rmdir()
+            os.replace(staging, out_dir)
     except BaseException:
         shutil.rmtree(staging, ignore_errors=True)
         raise

@@ -6,11 +6,14 @@ factor lies between 0 and 1; an isotherm step is a positive temperature
 difference).
 """
 
+import json
+
 import pytest
 
 from bridgecalc.cli import main
 from bridgecalc.errors import BridgecalcError
 from bridgecalc.outputs import workers, write
+from bridgecalc.outputs.folder import RUN_MARKER
 
 from hand_stamp import HAND_STAMP
 
@@ -29,7 +32,8 @@ def test_every_output_file_is_written(written):
                                       "surface_temperature")}
     # the demo's junction is small in its section: close views of it too
     expected |= {f"{n}_detail.png" for n in ("materials", "mesh", "temperature", "heat_flux")}
-    assert names == expected
+    assert names == expected | {RUN_MARKER}
+    assert sorted(json.loads((written / RUN_MARKER).read_text())["files"]) == sorted(expected)
     assert not [p for p in written.parent.iterdir() if p.name.startswith(".")]
 
 
@@ -78,7 +82,7 @@ def test_an_out_folder_holding_a_folder_of_an_output_name_gets_nothing(demo, tmp
     out = tmp_path / "out"
     (out / "results.json").mkdir(parents=True)
     (out / "notes.txt").write_text("mine", encoding="utf-8")
-    with pytest.raises(BridgecalcError, match="results.json is a folder"):
+    with pytest.raises(BridgecalcError, match="holds files that are not an earlier"):
         write.write_outputs(demo, out, stamp=HAND_STAMP, workers=1)
     assert sorted(p.name for p in out.iterdir()) == ["notes.txt", "results.json"]
     assert not any((out / "results.json").iterdir())
