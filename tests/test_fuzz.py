@@ -161,11 +161,11 @@ def read_or_refuse(text: str) -> None:
     assert modelfile.loads(modelfile.dumps(model), "again.toml") == model
 
 
-READER = settings(max_examples=400, derandomize=True, deadline=None, database=None,
+READER = settings(max_examples=500, derandomize=True, deadline=None, database=None,
                   suppress_health_check=list(HealthCheck))
 
 
-@READER
+@settings(READER, max_examples=700)
 @given(mutated())
 def test_mutated_files_are_read_or_refused(tree):
     text = as_toml(tree)
@@ -181,7 +181,7 @@ def test_files_from_scratch_are_read_or_refused(tree):
         read_or_refuse(text)
 
 
-@settings(max_examples=250, derandomize=True, deadline=None, database=None,
+@settings(max_examples=300, derandomize=True, deadline=None, database=None,
           suppress_health_check=list(HealthCheck))
 @given(edited_text())
 def test_edited_text_is_read_or_refused(text):
