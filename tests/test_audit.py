@@ -118,6 +118,17 @@ def test_shipped_scripts_raise_no_finding(path):
     assert checked >= 1
 
 
+def shipped_model_files():
+    return sorted(p for p in api.geometries_folder().glob("*.toml")
+                  if "[[junctions]]" not in p.read_text(encoding="utf-8"))   # not projects
+
+
+@pytest.mark.parametrize("path", shipped_model_files(), ids=lambda p: p.name)
+def test_shipped_model_files_raise_no_finding(path):
+    model = api.load(path)
+    assert audit_texts(model, audit(model)) == []
+
+
 def test_the_demo_and_the_base_model_raise_no_finding():
     model = api.demo_model()
     assert audit(model) == []
