@@ -15,7 +15,14 @@ width over the true error of the extrapolated value (the issue's target: at
 most 3). Times are wall-clock; other jobs may share the machine (load average
 printed); ratios are measured in the same run.
 
-Usage: python benchmarks/bench_bounds.py [--junctions a,b] [--repeat 2]
+With ``--cost``: instead, what the bounds add to a default run. Each junction
+is run by default (``bridgecalc.run``, adaptive, default tolerance) with the
+bounds of the finest mesh and with them switched off (the study's hook that
+attaches them replaced by one that does nothing), best of ``--repeat`` each,
+alternating; printed: both times, their ratio, the bounds' own time on the
+finest mesh and the nodes of that mesh.
+
+Usage: python benchmarks/bench_bounds.py [--junctions a,b] [--repeat 2] [--cost]
 """
 
 from __future__ import annotations
@@ -26,6 +33,7 @@ import time
 from pathlib import Path
 
 from bridgecalc.api import load, run
+from bridgecalc.study import convergence
 
 ROOT = Path(__file__).resolve().parents[1]
 JUNCTIONS = ("balcony", "eaves", "ground_floor", "parapet", "slab_edge", "steel_beam",
@@ -41,14 +49,54 @@ def timed(model, repeat, **kwargs):
     return best, result
 
 
+def cost(names, repeat):
+    """A default run with and without the finest mesh's bounds, in the same run."""
+    attach = convergence._attach_bounds
+    spent = []
+
+    def timed_attach(*args, **kwargs):
+        start = time.perf_counter()
+        attach(*args, **kwargs)
+        spent.append(time.perf_counter() - start)
+
+    print(f"{'junction':14s} {'nodes':>8s} {'t with':>8s} {'t without':>9s} {'ratio':>6s} "
+          f"{'bounds':>8s}")
+    for name in names:
+        model = load(ROOT / "geometries" / f"{name}.py")
+        with_, without, own = float("inf"), float("inf"), float("inf")
+        for _ in range(repeat):
+            convergence._attach_bounds = lambda *a, **k: None
+            try:
+                t, _ = timed(model, 1)
+            finally:
+                convergence._attach_bounds = attach
+            without = min(without, t)
+            spent.clear()
+            convergence._attach_bounds = timed_attach
+            try:
+                t, result = timed(model, 1)
+            finally:
+                convergence._attach_bounds = attach
+            with_ = min(with_, t)
+            own = min(own, sum(spent))
+        nodes = result.convergence.levels[-1].nodes
+        print(f"{name:14s} {nodes:8d} {with_:8.2f} {without:9.2f} {with_ / without:6.2f} "
+              f"{own:8.3f}")
+
+
 def main(argv=None):
     parser = argparse.ArgumentParser()
     parser.add_argument("--junctions", default=",".join(JUNCTIONS))
     parser.add_argument("--repeat", type=int, default=2)
     parser.add_argument("--tight", type=float, default=2e-5,
                         help="tolerance of the interval study that gives the truth")
+    parser.add_argument("--cost", action="store_true",
+                        help="time a default run with and without the bounds")
     args = parser.parse_args(argv)
     print(f"load average {os.getloadavg()[0]:.2f}")
+    if args.cost:
+        cost(args.junctions.split(","), args.repeat)
+        return
     print(f"{'junction':14s} {'t adapt':>8s} {'t intv':>8s} {'ratio':>6s} {'N adapt':>8s} "
           f"{'N intv':>8s} {'ratio':>6s} {'width':>9s} {'err extr':>9s} {'±':>8s} "
           f"{'w/err':>6s} {'est/err':>7s}")

@@ -22,6 +22,7 @@ the package:
 from __future__ import annotations
 
 import dataclasses
+import functools
 import math
 
 import numpy as np
@@ -192,13 +193,19 @@ RECTILINEAR = {"balcony.py": 20.0, "parapet.py": 20.0, "slab_edge.py": 40.0,
                "steel_beam.py": 20.0, "wall_corner.py": 40.0, "window_jamb.py": 20.0}
 
 
+@functools.lru_cache(maxsize=None)
+def junction_reference(name: str, path: str) -> dict:
+    """The finite-volume reference of one shipped junction, solved once per session."""
+    return rg.reference(dumps(load(path)), RECTILINEAR[name])
+
+
 @pytest.mark.parametrize("name", sorted(RECTILINEAR))
 def test_shipped_junction_inside_its_bounds(name, geometries):
     """L2D of every shipped junction that the finite-volume reference can
     represent lies within the bounds on every level of a gap-driven study
     (within the reference's own Richardson error), and the bounds close in."""
     model = load(geometries / name)
-    ref = rg.reference(dumps(model), RECTILINEAR[name])
+    ref = junction_reference(name, str(geometries / name))
     (pair, estimate), = ref["coupling_coefficients"].items()
     exact, slack = estimate["value"], estimate["error"]
     side = interior_side(model)
@@ -213,6 +220,29 @@ def test_shipped_junction_inside_its_bounds(name, geometries):
         mesh = refine(mesh, indicators.mark(found.indicators([tuple(side[2])])))
     assert widths[-1] < widths[0] / 4
     assert slack < 0.5 * widths[-1]                # the check has teeth
+
+
+@pytest.mark.parametrize("name", sorted(RECTILINEAR))
+def test_run_error_estimate_covers_the_reference(name, geometries):
+    """A default ``run()`` (adaptive study, default tolerance): its extrapolated
+    Ψ lies within its own error estimate of the finite-volume reference's Ψ
+    (tests/reference_grid.py, Richardson-extrapolated, plus that reference's
+    own error). Ψ = L2D − Σ U·l with the same Σ U·l on both sides, so the
+    check is made on L2D, and Ψ is checked to carry L2D's estimate."""
+    result = run(load(geometries / name))
+    ref = junction_reference(name, str(geometries / name))
+    (_, estimate), = ref["coupling_coefficients"].items()
+    conv = result.convergence
+    cc, psi = conv.coupling_coefficient, conv.psi
+    assert psi.error_estimate == cc.error_estimate
+    shift = cc.value - psi.value
+    off = abs(cc.value - estimate["value"])
+    assert off <= cc.error_estimate + estimate["error"], \
+        (name, cc.value, cc.error_estimate, estimate["value"], estimate["error"])
+    psi_ref = estimate["value"] - shift
+    assert abs(psi.value - psi_ref) <= psi.error_estimate + estimate["error"]
+    # the estimate is not vacuous: well below the value itself
+    assert cc.error_estimate < 1e-2 * abs(cc.value)
 
 
 # -- lower ≤ upper in hard cases --------------------------------------------------
