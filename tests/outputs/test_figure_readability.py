@@ -145,3 +145,68 @@ def test_the_profiles_distance_axis_is_marked_on_the_section(demo):
         assert thousand and tuple(thousand[0].xy) == pytest.approx((0.0, 420.0))
     finally:
         figures.plt.close(fig)
+
+
+def _label_boxes(fig):
+    """Each isotherm label's box as drawn: a (turned) quadrilateral [display px]."""
+    fig.canvas.draw()
+    boxes = []
+    for text in _labels(fig):
+        patch = text.get_bbox_patch()
+        corners = patch.get_path().transformed(patch.get_transform()).vertices
+        boxes.append((text.get_text(), np.unique(corners.round(6), axis=0)))
+    return boxes
+
+
+def _separated(a, b) -> bool:
+    """True when the convex point sets ``a`` and ``b`` (polygons or segments) do
+    not overlap: some edge normal of either separates them (separating-axis
+    theorem)."""
+    for poly in (a, b):
+        hull = poly[_convex_order(poly)]
+        for p, q in zip(hull, np.roll(hull, -1, axis=0)):
+            normal = np.array([q[1] - p[1], p[0] - q[0]])
+            if not normal.any():
+                continue
+            pa, pb = a @ normal, b @ normal
+            if pa.max() < pb.min() or pb.max() < pa.min():
+                return True
+    return False
+
+
+def _convex_order(points):
+    centre = points.mean(axis=0)
+    return np.argsort(np.arctan2(points[:, 1] - centre[1], points[:, 0] - centre[0]))
+
+
+def test_isotherm_labels_clear_of_each_other_and_of_the_outline(demo):
+    # geometry of the drawn figure: each label's box against every other label's
+    # and against every outline edge of the model (as the plot maps it)
+    xy = demo.mesh.nodes / demo.model.metres_per_unit
+    for name in ("temperature", "temperature_detail"):
+        fig = figures.build_figure(name, demo)
+        try:
+            boxes = _label_boxes(fig)
+            assert len(boxes) >= 5, name
+            ax = fig.axes[0]
+            plot = ax.get_window_extent()
+            edges = ax.transData.transform(xy[demo.mesh.boundary_edges].reshape(-1, 2))
+            edges = edges.reshape(-1, 2, 2)
+            inside = ((edges.max(axis=1) >= (plot.x0, plot.y0)).all(axis=1)
+                      & (edges.min(axis=1) <= (plot.x1, plot.y1)).all(axis=1))
+            for k, (text, box) in enumerate(boxes):
+                for other, box2 in boxes[k + 1:]:
+                    assert _separated(box, box2), (name, text, other)
+                for edge in edges[inside]:
+                    assert _separated(box, edge), (name, text, edge.tolist())
+        finally:
+            figures.plt.close(fig)
+
+
+def test_the_separation_check_sees_overlaps():
+    square = np.array([[0, 0], [2, 0], [2, 2], [0, 2]], float)
+    turned = np.array([[1, -0.5], [2.5, 1], [1, 2.5], [-0.5, 1]], float)
+    assert not _separated(square, turned)
+    assert _separated(square, square + 3)
+    assert not _separated(square, np.array([[-1, 1], [3, 1]], float))     # a segment across
+    assert _separated(square, np.array([[-1, 3], [3, 2.5]], float))       # one above it

@@ -47,7 +47,7 @@ def heat_flux_figure(result, detail=False):
              "Heat-flux density |q| = |−λ∇θ|")
             + ", heat-flow case; arrows show direction only", extent)
         # |q| is constant in each triangle: each pixel shows its triangle's value
-        gx, gy, px, py, cells = pixel_grid(fig, ax, extent, triangulation)
+        gx, gy, px, py, cells = pixel_grid(fig, ax, extent, triangulation, result)
         values = np.full(px.shape, np.nan)
         values[cells >= 0] = np.clip(magnitude[cells[cells >= 0]], floor, top)
         shade = field_image(ax, gx, gy, values, cmap=HEAT_FLUX_CMAP,

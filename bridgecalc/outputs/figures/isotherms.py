@@ -49,14 +49,17 @@ def bar_ticks(lo, hi, step):
 ISOTHERM_LABEL_SIZE, ISOTHERM_LABEL_CLEARANCE = 6.5, 3.0
 
 
-def label_isotherms(ax, contours, field, avoid=()):
+def label_isotherms(ax, contours, field, avoid=(), outline=None):
     """Label each isotherm once, clear of the others where the plot allows.
 
     A label follows its line (matplotlib turns it along it), so across the
     line it needs half its height clear of other isotherms. Candidate places
     are taken along the middle of every line inside the plot; each label is
     taken as a disc of its width, whatever its turn, and must stay inside
-    the plot, off labels already placed and off the boxes in ``avoid``.
+    the plot, off labels already placed, off the boxes in ``avoid`` and off
+    the ``outline`` segments: a label is a box of its measured text (and its
+    padding) turned any way, so it is kept a disc of the box's half-diagonal
+    away from each placed label's disc and from the outline.
 
     First every level that has a place with that much room gets the one
     with the most room (up to four times the least; then the one nearest the
@@ -75,6 +78,8 @@ def label_isotherms(ax, contours, field, avoid=()):
         Colour map and norm of the field under the isotherms.
     avoid : list of matplotlib.transforms.Bbox
         Display boxes to keep labels off (the θsi,min label, say).
+    outline : ndarray, shape (M, 2, 2), optional
+        Segments [length_unit] no label may cover (the model's outline).
 
     Returns
     -------
@@ -95,6 +100,7 @@ def label_isotherms(ax, contours, field, avoid=()):
                                               fig.dpi / 100)
                                      for q in pieces if len(q) >= 2]))
     trees = [cKDTree(np.concatenate(pts)) if pts else None for _, pts in lines]
+    edge_tree = _outline_tree(ax, outline, box)
     candidates = {}
     for k, (level, pieces) in enumerate(lines):
         if not pieces:
@@ -111,8 +117,12 @@ def label_isotherms(ax, contours, field, avoid=()):
         for j, tree in enumerate(trees):
             if j != k and tree is not None:
                 room = np.minimum(room, tree.query(cand)[0])
-        radius = 0.62 * len(text(level)) * ISOTHERM_LABEL_SIZE * per_pt / 2 + clear
-        candidates[k] = (cand, np.concatenate(central), room, radius)
+        radius = max(0.62 * len(text(level)) * ISOTHERM_LABEL_SIZE * per_pt / 2 + clear,
+                     label_half_diagonal(text(level)) * per_pt)
+        off_edge = (np.full(len(cand), np.inf) if edge_tree is None
+                    else edge_tree.query(cand)[0])
+        keep = off_edge >= radius
+        candidates[k] = (cand[keep], np.concatenate(central)[keep], room[keep], radius)
     discs = []                                    # (x, y, radius) of placed labels
     boxes = [(b.x0, b.y0, b.x1, b.y1) for b in avoid]
     places = {}
@@ -147,8 +157,46 @@ def label_isotherms(ax, contours, field, avoid=()):
         fill = field.cmap(field.norm(level))
         light = 0.2126 * fill[0] + 0.7152 * fill[1] + 0.0722 * fill[2] > 0.45
         label.set_color(INK if light else "white")
-        label.set_bbox(dict(boxstyle="square,pad=0.12", fc=fill, ec="none"))
+        label.set_bbox(dict(boxstyle=f"square,pad={ISOTHERM_LABEL_PAD}", fc=fill, ec="none"))
     return labelled
+
+
+#: Padding of an isotherm label's box [share of its font size] (its ``bbox`` pad).
+ISOTHERM_LABEL_PAD = 0.12
+
+
+def label_half_diagonal(text: str) -> float:
+    """Half the diagonal [pt] of an isotherm label's box: its text as measured
+    from the font's outlines, one line high, with the box's padding; a disc of
+    this radius holds the box whichever way it is turned."""
+    from matplotlib.font_manager import FontProperties
+    from matplotlib.textpath import text_to_path
+    size = ISOTHERM_LABEL_SIZE
+    width, _, _ = text_to_path.get_text_width_height_descent(
+        text, FontProperties(size=size), ismath=False)
+    pad = 2 * ISOTHERM_LABEL_PAD * size
+    return 0.5 * math.hypot(width + pad, 1.2 * size + pad) + 0.5
+
+
+def _outline_tree(ax, outline, box):
+    """The outline segments as points at most a pixel apart [display], in a
+    k-d tree, or None; only segments that reach into the plot's box count."""
+    from scipy.spatial import cKDTree
+    if outline is None or not len(outline):
+        return None
+    ends = ax.transData.transform(np.asarray(outline, float).reshape(-1, 2)).reshape(-1, 2, 2)
+    lo, hi = ends.min(axis=1), ends.max(axis=1)
+    near = ((hi[:, 0] >= box.x0 - 50) & (lo[:, 0] <= box.x1 + 50)
+            & (hi[:, 1] >= box.y0 - 50) & (lo[:, 1] <= box.y1 + 50))
+    ends = ends[near]
+    if not len(ends):
+        return None
+    step = ends[:, 1] - ends[:, 0]
+    count = np.maximum(1, np.ceil(np.hypot(step[:, 0], step[:, 1]))).astype(int)
+    segment = np.repeat(np.arange(len(ends)), count + 1)
+    t = (np.arange((count + 1).sum()) - np.repeat(np.cumsum(count + 1) - count - 1, count + 1))
+    t = t / count[segment]
+    return cKDTree(ends[segment, 0] + step[segment] * t[:, None])
 
 
 def upright(degrees: float) -> float:

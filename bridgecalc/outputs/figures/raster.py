@@ -109,19 +109,40 @@ def linear_in_cells(xy, triangles, nodal, cells, x, y) -> np.ndarray:
     return g[:, 0] * x + g[:, 1] * y + g[:, 2]
 
 
-def pixel_grid(fig, ax, extent, triangulation):
-    """Pixel centres over the plot [length_unit] and the triangle under each (-1: none)."""
+def pixel_grid(fig, ax, extent, triangulation, result=None):
+    """Pixel centres over the plot [length_unit] and the triangle under each (-1: none).
+
+    With ``result``, the grid is kept on it (``_bridgecalc_pixel_grids``, by
+    view and pixel count): the mesh, heat-flux and temperature figures of the
+    same view sample the same pixels, and finding the triangle under each is
+    the costly part. The arrays are shared: callers must not write into them.
+    """
     lo, hi = extent
     box = ax.get_position()
     width_in = box.width * fig.get_figwidth()
     nx = max(int(width_in * FIELD_PPI), 50)
     ny = max(int(nx * (hi[1] - lo[1]) / (hi[0] - lo[0])), 20)
+    key = (tuple(np.asarray(lo, float).round(12)), tuple(np.asarray(hi, float).round(12)),
+           nx, ny, len(triangulation.triangles))
+    kept = getattr(result, "_bridgecalc_pixel_grids", None) if result is not None else None
+    if kept is not None and key in kept:
+        return kept[key]
     gx = lo[0] + (np.arange(nx) + 0.5) * (hi[0] - lo[0]) / nx
     gy = lo[1] + (np.arange(ny) + 0.5) * (hi[1] - lo[1]) / ny
     px, py = np.meshgrid(gx, gy)
     cells = cells_on_grid(np.column_stack([triangulation.x, triangulation.y]),
                           triangulation.triangles, gx, gy)
-    return gx, gy, px, py, cells
+    grid = (gx, gy, px, py, cells)
+    for array in grid:
+        array.flags.writeable = False
+    if result is not None:
+        try:
+            if kept is None:
+                kept = result._bridgecalc_pixel_grids = {}
+            kept[key] = grid
+        except AttributeError:      # pragma: no cover - a result that takes no attributes
+            pass
+    return grid
 
 
 def field_image(ax, gx, gy, values, cmap, norm, interpolation):

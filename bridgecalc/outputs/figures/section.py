@@ -147,7 +147,7 @@ def mesh_figure(result, detail=False):
             f"{result.element} elements; shade = element size", extent,
             legend_rows("mesh", result))
         triangulation = mtri.Triangulation(xy[:, 0], xy[:, 1], mesh.triangles)
-        gx, gy, px, py, cells = pixel_grid(fig, ax, extent, triangulation)
+        gx, gy, px, py, cells = pixel_grid(fig, ax, extent, triangulation, result)
         values = np.full(px.shape, np.nan)
         values[cells >= 0] = size[cells[cells >= 0]]
         shade = field_image(ax, gx, gy, values, cmap=MESH_CMAP,

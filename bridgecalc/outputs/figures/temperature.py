@@ -59,7 +59,7 @@ def temperature_figure(result, isotherm_step=None, detail=False):
         vmax = max(levels[-1], hi)
         # Linear interpolation in each triangle: for P1 it is the computed
         # field itself, sampled at the image's pixels.
-        gx, gy, px, py, cells = pixel_grid(fig, ax, extent, triangulation)
+        gx, gy, px, py, cells = pixel_grid(fig, ax, extent, triangulation, result)
         values = np.full(px.shape, np.nan)
         inside = cells >= 0
         values[inside] = linear_in_cells(xy, mesh.triangles, theta, cells[inside],
@@ -75,7 +75,8 @@ def temperature_figure(result, isotherm_step=None, detail=False):
         if len(lines):
             iso = ax.tricontour(triangulation, theta, levels=lines, colors=INK,
                                 linewidths=0.55)
-            label_isotherms(ax, iso, filled, avoid=[] if marker is None else [marker])
+            label_isotherms(ax, iso, filled, avoid=[] if marker is None else [marker],
+                            outline=xy[mesh.boundary_edges])
         draw_critical_isotherm(ax, triangulation, theta, result)
         _mark_distances(ax, result, extent)
         if not detail:
