@@ -68,12 +68,24 @@ def test_a_small_junction_gets_close_views_and_a_compact_section_none(demo, geom
     # the slab's passage through the wall: x 0 to 400 mm, y 0 to 220 mm
     assert x0 <= 0 and x1 >= 400 and y0 <= 0 and y1 >= 220
     assert max(x1 - x0, y1 - y0) <= 0.5 * 2900          # a close view, not the whole
-    names = figures.figure_names(demo)
+    # each figure of the section shows the close view beside the whole, in
+    # the same figure: a second plot whose limits are the window
     for whole in ("materials", "mesh", "temperature", "heat_flux"):
-        assert names.index(f"{whole}_detail") == names.index(whole) + 1
+        fig = figures.build_figure(whole, demo)
+        try:
+            close = [a for a in fig.axes if a.get_gid() == "close-view"]
+            assert len(close) == 1, whole
+            assert close[0].get_xlim() == pytest.approx((x0, x1))
+            assert close[0].get_ylim() == pytest.approx((y0, y1))
+        finally:
+            figures.plt.close(fig)
     compact = run(load(geometries / "timber_stud.py"), refinement=None)
     assert figures.detail_window(compact) is None
-    assert figures.figure_names(compact) == figures.FIGURES
+    fig = figures.build_figure("temperature", compact)
+    try:
+        assert not [a for a in fig.axes if a.get_gid() == "close-view"]
+    finally:
+        figures.plt.close(fig)
 
 
 def test_the_close_view_frame_is_marked_on_the_whole(demo):

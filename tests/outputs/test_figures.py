@@ -345,9 +345,17 @@ def test_a_large_ground_block_gets_a_detail_view(geometries):
                   & (near[:, 1] >= y0) & (near[:, 1] <= y1))
     tx, ty = result.surface_temperature_case.theta_si_min_at
     assert x0 <= tx <= x1 and y0 <= ty <= y1
-    names = figures.figure_names(result)
-    assert names.index("materials_detail") == names.index("materials") + 1
-    assert names.index("temperature_detail") == names.index("temperature") + 1
+    for name in ("materials", "temperature"):
+        # the close view beside the whole, in the figure the report shows
+        fig = figures.build_figure(name, result)
+        try:
+            close = [a for a in fig.axes if a.get_gid() == "close-view"]
+            assert len(close) == 1
+            assert close[0].get_xlim() == pytest.approx((x0, x1))
+            assert close[0].get_ylim() == pytest.approx((y0, y1))
+            assert tuple(fig.get_size_inches()) == pytest.approx(figures.figure_size(name, result))
+        finally:
+            figures.plt.close(fig)
     for name in figures.DETAIL_FIGURES:
         fig = figures.build_figure(name, result)
         try:

@@ -51,26 +51,28 @@ def _text(content):
 
 
 def test_a_ground_floor_report_carries_the_detail_views(geometries, tmp_path):
-    """The ground block makes the junction small; its close views are written
-    (as PNG, and with vector_figures as SVG and PDF too) and shown in both
-    reports, right after their whole views."""
+    """The ground block makes the junction small; its close views are drawn
+    beside the whole views, in the same figures (as PNG, and with
+    vector_figures as SVG and PDF too), and the captions say so."""
     result = run(load(geometries / "ground_floor.py"), refinement=None)
     out = outputs.write_outputs(result, tmp_path / "gf", stamp=False, workers=1,
                                 vector_figures=True)
-    for name in ("materials_detail", "temperature_detail"):
+    for name in ("materials", "temperature"):
         for ext in ("png", "svg", "pdf"):
             assert (out / f"{name}.{ext}").stat().st_size > 0
+        # the close view is a second plot in the figure: its own axis labels
+        assert (out / f"{name}.svg").read_text(encoding="utf-8").count('id="close-view"') == 1
+    assert not list(out.glob("*_detail.*"))
     page = (out / "report.html").read_text(encoding="utf-8")
-    assert page.count("data:image/png;base64,") == 9          # 5 whole, 4 close views
-    assert page.index("Materials at the junction: a close view") > page.index(
-        "Materials as modelled")
+    assert page.count("data:image/png;base64,") == 5
+    assert page.count("close view of the junction") >= 4
 
 
 def test_html_is_self_contained_and_carries_the_inputs_and_results(demo, written):
     page = (written / "report.html").read_text(encoding="utf-8")
     assert not re.search(r"""(src|href)=["'](?!data:|#)""", page)
     assert "http://" not in page and "https://" not in page
-    assert page.count("data:image/png;base64,") == 9          # 5 whole, 4 close views
+    assert page.count("data:image/png;base64,") == 5          # close views beside the whole
     for name, material in demo.model.materials.items():
         assert name in page and material.source in page
     assert "0.13" in page and "0.25" in page and "0.04" in page     # both resistances

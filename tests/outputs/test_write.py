@@ -30,8 +30,8 @@ def test_every_output_file_is_written(written):
     expected = {"results.json", "results.csv", "field.vtu", "report.html", "report.pdf"}
     expected |= {f"{n}.png" for n in ("materials", "mesh", "temperature", "heat_flux",
                                       "surface_temperature")}
-    # the demo's junction is small in its section: close views of it too
-    expected |= {f"{n}_detail.png" for n in ("materials", "mesh", "temperature", "heat_flux")}
+    # the demo's junction is small in its section: its close views are in the
+    # same figures, beside the whole (tests/outputs/test_figure_readability.py)
     assert names == expected | {RUN_MARKER}
     assert sorted(json.loads((written / RUN_MARKER).read_text())["files"]) == sorted(expected)
     assert not [p for p in written.parent.iterdir() if p.name.startswith(".")]

@@ -21,10 +21,12 @@ and written as PNG (200 dpi), and on request SVG and PDF too, by
     junction's (:mod:`.moisture`, which also draws the critical month's
     isotherm on the temperature figure).
 
-Where the junction is small in a large section, ``materials_detail``,
-``mesh_detail``, ``temperature_detail`` and ``heat_flux_detail`` show its close
-view (:func:`.catalogue.detail_window`), each after its view of the whole,
-which marks the close view's frame.
+Where the junction is small in a large section, the materials, mesh,
+temperature and heat-flux figures show its close view
+(:func:`.catalogue.detail_window`) beside the whole, in the same figure
+(:func:`.catalogue.beside_layout`); the whole marks the close view's frame.
+``materials_detail``, ``mesh_detail``, ``temperature_detail`` and
+``heat_flux_detail`` build the close view alone, on request.
 The modules: :mod:`.catalogue` (which figures a run has, what each shows,
 their sizes: known without drawing and without matplotlib), :mod:`.style`
 (the house style), :mod:`.layout` (header, frame, panels), :mod:`.edges`

@@ -16,8 +16,11 @@ import numpy as np
 
 
 FIGURES = ("materials", "mesh", "temperature", "heat_flux", "surface_temperature")
-#: Figures of the junction's detail window, when there is one; each follows
-#: its view of the whole section.
+#: Figures of the section: where it has a :func:`detail_window`, each shows the
+#: close view beside the whole, in the same figure (:func:`beside_layout`).
+SECTION_FIGURES = ("materials", "mesh", "temperature", "heat_flux")
+#: The close view alone, as a figure of its own: built on request
+#: (:func:`bridgecalc.outputs.figures.build_figure`), not written by a run.
 DETAIL_FIGURES = ("materials_detail", "mesh_detail", "temperature_detail", "heat_flux_detail")
 #: Every file a figure can be written as, in this order, and the resolution of
 #: the PNG [1/in].
@@ -38,15 +41,10 @@ def figure_formats(vector: bool = False) -> tuple[str, ...]:
 
 
 def figure_names(result) -> tuple[str, ...]:
-    """The figures of a run: :data:`FIGURES`, the detail views when the
-    section has a :func:`detail_window`, and ``moisture`` when the result
-    carries an ISO 13788 check."""
-    if detail_window(result) is None:
-        return FIGURES + moisture_figures(result)
-    names = []
-    for name in FIGURES:
-        names += [name] + [d for d in DETAIL_FIGURES if d == f"{name}_detail"]
-    return tuple(names) + moisture_figures(result)
+    """The figures of a run: :data:`FIGURES` (those of the section with their
+    close view beside the whole when there is a :func:`detail_window`), and
+    ``moisture`` when the result carries an ISO 13788 check."""
+    return FIGURES + moisture_figures(result)
 
 
 def moisture_figures(result) -> tuple[str, ...]:
@@ -59,6 +57,9 @@ def figure_size(name: str, result) -> tuple[float, float]:
     """Width and height [in] that figure ``name`` will have, without drawing it."""
     if name in ("surface_temperature", "moisture"):
         return PAGE_WIDTH, PROFILE_HEIGHT
+    if name in SECTION_FIGURES and detail_window(result) is not None:
+        return PAGE_WIDTH, beside_layout(padded_extent(result), detail_window(result),
+                                         legend_rows(name, result))["height"]
     return PAGE_WIDTH, section_layout(_extent(name, result), legend_rows(name, result))[4]
 
 
@@ -235,6 +236,76 @@ def section_layout(extent, legend_rows=0):
         plot_h = max(plot_w * aspect, 0.25)
         fig_h = MARGIN_TOP + plot_h + MARGIN_BOTTOM + below_panel(legend_rows)
     return aspect, side, plot_w, plot_h, fig_h
+
+
+#: Between a whole view and its close view beside it: room for the close view's
+#: y-axis labels [in]; under a whole view stacked over its close view, room for
+#: the whole's x-axis labels [in]. The plots' common height below which a wide
+#: section is stacked over its close view instead of beside it [in].
+BESIDE_GAP, STACK_GAP, MIN_BESIDE_HEIGHT = 0.62, 0.55, 2.2
+#: Largest height of a close view stacked under its whole view [in].
+MAX_STACKED_CLOSE = 3.4
+
+
+def beside_layout(whole, close, legend_rows=0) -> dict:
+    """Where the whole view, its close view and the panel go in one figure [in].
+
+    Beside each other at one height when that height is at least
+    :data:`MIN_BESIDE_HEIGHT` (tall and square sections): the width of the
+    page is shared in proportion to their widths, so neither leaves room
+    unused, and the panel (colour bar, legend) spans the page below them. A
+    wide section, which beside its close view would be a thin strip, spans
+    the page's width instead, with its close view under it and the panel
+    right of the close view.
+
+    Parameters
+    ----------
+    whole, close : (ndarray, ndarray)
+        Lower-left and upper-right plot limits [length_unit] of each view.
+    legend_rows : int
+        Rows of two-line legend entries a panel below must hold.
+
+    Returns
+    -------
+    dict
+        ``height`` of the figure, ``side`` (True: the panel is beside a
+        plot), and boxes ``whole``, ``close`` and ``panel`` as (left,
+        bottom, width, height) from the figure's lower-left corner [in].
+    """
+    def ratio(extent):
+        lo, hi = extent
+        span = np.asarray(hi, float) - np.asarray(lo, float)
+        return float(span[1] / max(span[0], 1e-12))
+    a_whole, a_close = ratio(whole), ratio(close)
+    room = PAGE_WIDTH - MARGIN_LEFT - BESIDE_GAP - MARGIN_RIGHT - 0.05
+    h = min(room / (1 / a_whole + 1 / a_close), MAX_PLOT_HEIGHT)
+    if h >= MIN_BESIDE_HEIGHT:
+        below = below_panel(legend_rows)
+        w_whole, w_close = h / a_whole, h / a_close
+        bottom = MARGIN_BOTTOM + below
+        return {"height": MARGIN_TOP + h + bottom, "side": False,
+                "whole": (MARGIN_LEFT, bottom, w_whole, h),
+                "close": (MARGIN_LEFT + w_whole + BESIDE_GAP, bottom, w_close, h),
+                "panel": (MARGIN_LEFT, 0.1, PAGE_WIDTH - MARGIN_LEFT - MARGIN_RIGHT - 0.1,
+                          below - 0.25)}
+    w_whole = PAGE_WIDTH - MARGIN_LEFT - MARGIN_RIGHT - 0.1
+    h_whole = min(max(w_whole * a_whole, 0.25), MAX_PLOT_HEIGHT)
+    w_whole = min(w_whole, h_whole / a_whole)
+    w_close = PAGE_WIDTH - MARGIN_LEFT - MARGIN_RIGHT - SIDE_PANEL - 0.2
+    h_close = w_close * a_close
+    floor = 0.45 + LEGEND_ROW * 2 * legend_rows
+    if h_close > MAX_STACKED_CLOSE:
+        h_close = MAX_STACKED_CLOSE
+        w_close = h_close / a_close
+    h_close = max(h_close, min(floor, MAX_STACKED_CLOSE))
+    w_close = min(w_close, h_close / a_close)
+    panel_left = PAGE_WIDTH - MARGIN_RIGHT - SIDE_PANEL + 0.2
+    height = MARGIN_TOP + h_whole + STACK_GAP + h_close + MARGIN_BOTTOM
+    return {"height": height, "side": True,
+            "whole": (MARGIN_LEFT, MARGIN_BOTTOM + h_close + STACK_GAP, w_whole, h_whole),
+            "close": (MARGIN_LEFT, MARGIN_BOTTOM, w_close, h_close),
+            "panel": (panel_left, MARGIN_BOTTOM, PAGE_WIDTH - MARGIN_RIGHT - panel_left,
+                      h_close)}
 
 
 def below_panel(legend_rows: int) -> float:

@@ -9,9 +9,9 @@ import numpy as np
 from matplotlib.ticker import LogFormatter
 
 from ...results import heat_flux_density
-from .catalogue import material_codes, side_or_below, view
+from .catalogue import detail_window, material_codes, view
 from .edges import material_edges, segments_path
-from .layout import colour_bar, frame, new_figure, outline_detail
+from .layout import colour_bar, frame, new_figure, outline_detail, views
 from .raster import cells_on_grid, field_image, pixel_grid
 from .style import HEAT_FLUX_CMAP, INK, STYLE, plt
 
@@ -40,30 +40,33 @@ def heat_flux_figure(result, detail=False):
     top = max(top, floor * 10)
     triangulation = mtri.Triangulation(xy[:, 0], xy[:, 1], mesh.triangles)
     extent = view(result, detail)
+    close = None if detail else detail_window(result)
     with plt.rc_context(STYLE):
         fig, ax, aspect = new_figure(
             result, model.name or "junction",
             ("Heat-flux density at the junction (detail)" if detail else
              "Heat-flux density |q| = |−λ∇θ|")
-            + ", heat-flow case; arrows show direction only", extent)
-        # |q| is constant in each triangle: each pixel shows its triangle's value
-        gx, gy, px, py, cells = pixel_grid(fig, ax, extent, triangulation, result)
-        values = np.full(px.shape, np.nan)
-        values[cells >= 0] = np.clip(magnitude[cells[cells >= 0]], floor, top)
-        shade = field_image(ax, gx, gy, values, cmap=HEAT_FLUX_CMAP,
-                            norm=mcolors.LogNorm(vmin=floor, vmax=top), interpolation="nearest")
-        shade.set_gid("heat-flux-fill")
+            + ", heat-flow case; arrows show direction only", extent, close=close)
+        norm = mcolors.LogNorm(vmin=floor, vmax=top)
         names, codes = material_codes(result)
-        ax.add_artist(segments_path(xy[material_edges(mesh, codes)], edgecolor="white",
-                                   linewidth=0.5, alpha=0.6))
-        _flow_arrows(ax, triangulation, xy, q, magnitude, extent)
-        frame(ax, result, extent)
-        if not detail:
-            outline_detail(ax, result)
+        inner = xy[material_edges(mesh, codes)]
+        for axes, shown, is_close in views(fig, ax, extent, detail):
+            frame(axes, result, shown)
+            # |q| is constant in each triangle: each pixel shows its triangle's value
+            gx, gy, px, py, cells = pixel_grid(fig, axes, shown, triangulation, result)
+            values = np.full(px.shape, np.nan)
+            values[cells >= 0] = np.clip(magnitude[cells[cells >= 0]], floor, top)
+            shade = field_image(axes, gx, gy, values, cmap=HEAT_FLUX_CMAP, norm=norm,
+                                interpolation="nearest")
+            shade.set_gid("heat-flux-fill")
+            axes.add_artist(segments_path(inner, edgecolor="white", linewidth=0.5, alpha=0.6))
+            _flow_arrows(axes, triangulation, xy, q, magnitude, shown)
+            if not is_close:
+                outline_detail(axes, result)
         bar = colour_bar(fig, ax, shade, aspect, "heat-flux density |q| [W/m²], log scale")
         # plain numbers (0.1, 1, 10; 3, 6 between them when the range is
         # short), not powers of ten in mathtext
-        axis = bar.ax.yaxis if side_or_below(aspect) else bar.ax.xaxis
+        axis = bar.ax.yaxis if bar.orientation == "vertical" else bar.ax.xaxis
         axis.set_major_formatter(PlainLogFormatter())
         axis.set_minor_formatter(PlainLogFormatter(labelOnlyBase=False))
     return fig

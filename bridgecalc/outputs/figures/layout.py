@@ -13,7 +13,8 @@ from matplotlib.patches import Polygon
 from mpl_toolkits.axes_grid1.anchored_artists import AnchoredSizeBar
 
 from .catalogue import (MARGIN_BOTTOM, MARGIN_LEFT, MARGIN_RIGHT, PAGE_WIDTH, SIDE_PANEL,
-                        below_panel, detail_window, section_layout, side_or_below)
+                        below_panel, beside_layout, detail_window, section_layout,
+                        side_or_below)
 from .style import INK, INTERIOR, MUTED, plt
 
 
@@ -90,15 +91,23 @@ def fit_text(artist, width: float, smallest: float = 6.0) -> None:
 
 
 def new_figure(result, title: str, subtitle: str, extent, legend_rows=0,
-               panel_at_edge=False):
+               panel_at_edge=False, close=None):
     """A figure sized to the view's aspect, with the house header.
 
     Returns the figure, the plot axes and the aspect; the panel box (left,
     bottom, width, height) [figure fraction] for the legend or colour bar is
-    kept on the figure. ``panel_at_edge`` puts a side panel at the page's
-    right edge instead of beside the plot: beside a narrow plot, the room
-    between is then free for the θsi,min label.
+    kept on the figure, and whether it is beside a plot. ``panel_at_edge``
+    puts a side panel at the page's right edge instead of beside the plot:
+    beside a narrow plot, the room between is then free for the θsi,min label.
+
+    With ``close`` (plot limits of a close view [length_unit]), the figure
+    holds the whole view and the close view in one page width
+    (:func:`.catalogue.beside_layout`); the close view's axes are kept on the
+    figure (``_bridgecalc_close``, gid ``close-view``), and the aspect
+    returned is the panel's: 1 beside, 0 below.
     """
+    if close is not None:
+        return _beside_figure(title, subtitle, extent, close, legend_rows)
     aspect, side, plot_w, plot_h, fig_h = section_layout(extent, legend_rows)
     fig = plt.figure(figsize=(PAGE_WIDTH, fig_h))
     below = below_panel(legend_rows)
@@ -114,7 +123,45 @@ def new_figure(result, title: str, subtitle: str, extent, legend_rows=0,
         panel = (MARGIN_LEFT / PAGE_WIDTH, 0.1 / fig_h, plot_w / PAGE_WIDTH,
                  (below - 0.25) / fig_h)
     fig._bridgecalc_panel = panel
+    fig._bridgecalc_side = side
+    fig._bridgecalc_close = None
     return fig, ax, aspect
+
+
+def _beside_figure(title, subtitle, whole, close, legend_rows):
+    layout = beside_layout(whole, close, legend_rows)
+    fig_h = layout["height"]
+    fig = plt.figure(figsize=(PAGE_WIDTH, fig_h))
+
+    def fraction(box):
+        left, bottom, width, height = box
+        return (left / PAGE_WIDTH, bottom / fig_h, width / PAGE_WIDTH, height / fig_h)
+    ax = fig.add_axes(fraction(layout["whole"]))
+    near = fig.add_axes(fraction(layout["close"]))
+    near._bridgecalc_extent = close
+    near.set_gid("close-view")
+    header(fig, title, subtitle + ("; the junction close up below" if layout["side"]
+                                   else "; the junction close up at right"))
+    fig._bridgecalc_panel = fraction(layout["panel"])
+    fig._bridgecalc_side = layout["side"]
+    fig._bridgecalc_close = near
+    return fig, ax, 1.0 if layout["side"] else 0.0
+
+
+def views(fig, ax, extent, detail):
+    """(axes, plot limits, whether a close view) of each view in the figure:
+    the one ``ax`` shows, then the close view beside it when there is one."""
+    out = [(ax, extent, detail)]
+    near = getattr(fig, "_bridgecalc_close", None)
+    if near is not None:
+        out.append((near, near._bridgecalc_extent, True))
+    return out
+
+
+def panel_beside(fig, aspect) -> bool:
+    """True when the figure's legend and colour bar go upright beside a plot."""
+    side = getattr(fig, "_bridgecalc_side", None)
+    return side_or_below(aspect) if side is None else bool(side)
 
 
 def frame(ax, result, extent):
@@ -182,7 +229,7 @@ def legend(fig, ax, handles, aspect, title=None, below=None):
     """Legend in the figure's panel: right of a tall section, below a wide one;
     under the colour bar ``below`` when the panel holds one too."""
     left, bottom, width, height = fig._bridgecalc_panel
-    side = side_or_below(aspect)
+    side = panel_beside(fig, aspect)
     top = bottom + height
     if below is not None:
         box = below.ax.get_position()
@@ -207,7 +254,7 @@ def colour_bar(fig, ax, mappable, aspect, label, ticks=None, length=1.0):
     """
     left, bottom, width, height = fig._bridgecalc_panel
     mappable = ScalarMappable(norm=mappable.norm, cmap=mappable.cmap)
-    if side_or_below(aspect):
+    if panel_beside(fig, aspect):
         bar_h = min(height * length, 4.5 / fig.get_figheight())
         cax = fig.add_axes([left, bottom + height - bar_h, 0.16 / PAGE_WIDTH, bar_h])
         bar = fig.colorbar(mappable, cax=cax)

@@ -17,9 +17,9 @@ import numpy as np
 from matplotlib.lines import Line2D
 from matplotlib.patches import Patch, Polygon
 
-from .catalogue import legend_rows, material_codes, padded_extent, view
+from .catalogue import detail_window, legend_rows, material_codes, padded_extent, view
 from .edges import chained_path, material_edges, segments_path
-from .layout import frame, legend, new_figure, outline_detail
+from .layout import frame, legend, new_figure, outline_detail, views
 from .style import (ADIABATIC, EXTERIOR, INK, INTERIOR, MUTED, STYLE, UNHEATED,
                     material_colours, plt)
 
@@ -39,31 +39,35 @@ def materials_figure(result, detail=False):
     """
     model = result.model
     extent = view(result, detail)
+    close = None if detail else detail_window(result)
     with plt.rc_context(STYLE):
         fig, ax, aspect = new_figure(
             result, model.name or "junction",
             ("Materials at the junction (detail); " if detail else "Materials; ")
             + "lighter fill = lower conductivity λ", extent,
-            legend_rows("materials", result))
+            legend_rows("materials", result), close=close)
         style = material_colours(model)
-        for region in model.regions:
-            s = style[region.material]
-            ax.add_artist(Polygon(np.asarray(region.vertices, float), closed=True,
-                                 facecolor=s["fill"], edgecolor=s["line"], hatch=s["hatch"],
-                                 linewidth=0.0))
         names, codes = material_codes(result)
         xy = result.mesh.nodes / model.metres_per_unit
-        ax.add_artist(segments_path(xy[material_edges(result.mesh, codes)], edgecolor=INK,
-                                   linewidth=0.7, gid="material-edges"))
-        frame(ax, result, extent)
-        thin = _outline_thin_regions(ax, model, style, extent)
+        inner = xy[material_edges(result.mesh, codes)]
+        thin = set()
+        for axes, shown, is_close in views(fig, ax, extent, detail):
+            for region in model.regions:
+                s = style[region.material]
+                axes.add_artist(Polygon(np.asarray(region.vertices, float), closed=True,
+                                        facecolor=s["fill"], edgecolor=s["line"],
+                                        hatch=s["hatch"], linewidth=0.0))
+            axes.add_artist(segments_path(inner, edgecolor=INK, linewidth=0.7,
+                                          gid="material-edges"))
+            frame(axes, result, shown)
+            thin |= _outline_thin_regions(axes, model, style, shown)
+            if not is_close:
+                outline_detail(axes, result)
         handles = [Patch(facecolor=style[n]["fill"], edgecolor=style[n]["line"],
                          hatch=style[n]["hatch"], linewidth=0.4,
                          label=f"{n}" + (" (thin: outlined)" if n in thin else "")
                          + f"\nλ = {model.materials[n].conductivity:g} W/(m·K)")
                    for n in names]
-        if not detail:
-            outline_detail(ax, result)
         legend(fig, ax, handles, aspect, title="material")
     return fig
 
@@ -136,6 +140,7 @@ def mesh_figure(result, detail=False):
     model, mesh = result.model, result.mesh
     xy = mesh.nodes / model.metres_per_unit
     extent = view(result, detail)
+    close = None if detail else detail_window(result)
     size = element_sizes(result)
     lo, hi = float(size.min()), float(size.max())
     hi = max(hi, lo * 1.0001)
@@ -145,46 +150,52 @@ def mesh_figure(result, detail=False):
             ("Mesh at the junction (detail): " if detail else "Mesh: ")
             + f"{mesh.node_count} nodes, {mesh.triangle_count} triangles, "
             f"{result.element} elements; shade = element size", extent,
-            legend_rows("mesh", result))
+            legend_rows("mesh", result), close=close)
         triangulation = mtri.Triangulation(xy[:, 0], xy[:, 1], mesh.triangles)
-        gx, gy, px, py, cells = pixel_grid(fig, ax, extent, triangulation, result)
-        values = np.full(px.shape, np.nan)
-        values[cells >= 0] = size[cells[cells >= 0]]
-        shade = field_image(ax, gx, gy, values, cmap=MESH_CMAP,
-                            norm=mcolors.LogNorm(vmin=lo, vmax=hi), interpolation="nearest")
-        shade.set_gid("element-size")
+        norm = mcolors.LogNorm(vmin=lo, vmax=hi)
         names, codes = material_codes(result)
-        ax.add_artist(segments_path(xy[material_edges(mesh, codes)], edgecolor="white",
-                                   linewidth=0.6, alpha=0.8, gid="material-edges"))
-        (x0, y0), (x1, y1) = extent
+        inner = xy[material_edges(mesh, codes)]
         centre = xy[mesh.triangles].mean(axis=1)
-        shown = ((centre[:, 0] >= x0) & (centre[:, 0] <= x1)
-                 & (centre[:, 1] >= y0) & (centre[:, 1] <= y1))
-        if detail and shown.sum() <= MAX_DRAWN_EDGES_TRIANGLES:
-            near = np.flatnonzero(shown)
-            every = np.sort(np.concatenate([mesh.triangles[near][:, [0, 1]],
-                                            mesh.triangles[near][:, [1, 2]],
-                                            mesh.triangles[near][:, [2, 0]]]), axis=1)
-            every = np.unique(every, axis=0)
-            ax.add_artist(segments_path(xy[every], edgecolor=INK, linewidth=0.12,
-                                        alpha=0.7, gid="mesh-edges"))
-        handles = []
-        for kind, seg in _outline_segments(result).items():
-            if len(seg):
-                st = OUTLINE_STYLE[kind]
-                ax.add_artist(chained_path(seg, edgecolor=st["colors"], linewidth=st["linewidths"],
-                                           linestyle=st["linestyles"], capstyle="butt",
-                                           gid=f"outline-{kind}"))
-                handles.append(Line2D([], [], color=st["colors"], lw=st["linewidths"],
-                                      ls=st["linestyles"], label=OUTLINE_LABEL[kind]))
-        for j, p in _surface_label_points(result):
-            if x0 <= p[0] <= x1 and y0 <= p[1] <= y1:
-                ax.annotate(f"S{j + 1}", p, fontsize=6.5, ha="center", va="center",
-                            color=INK, gid=f"surface-label-S{j + 1}",
-                            bbox=dict(boxstyle="round,pad=0.2", fc="white", ec=MUTED, lw=0.4))
-        frame(ax, result, extent)
-        if not detail:
-            outline_detail(ax, result)
+        outline = _outline_segments(result)
+        for axes, view_extent, is_close in views(fig, ax, extent, detail):
+            frame(axes, result, view_extent)
+            gx, gy, px, py, cells = pixel_grid(fig, axes, view_extent, triangulation, result)
+            values = np.full(px.shape, np.nan)
+            values[cells >= 0] = size[cells[cells >= 0]]
+            shade = field_image(axes, gx, gy, values, cmap=MESH_CMAP, norm=norm,
+                                interpolation="nearest")
+            shade.set_gid("element-size")
+            axes.add_artist(segments_path(inner, edgecolor="white", linewidth=0.6, alpha=0.8,
+                                          gid="material-edges"))
+            (x0, y0), (x1, y1) = view_extent
+            shown = ((centre[:, 0] >= x0) & (centre[:, 0] <= x1)
+                     & (centre[:, 1] >= y0) & (centre[:, 1] <= y1))
+            if is_close and shown.sum() <= MAX_DRAWN_EDGES_TRIANGLES:
+                near = np.flatnonzero(shown)
+                every = np.sort(np.concatenate([mesh.triangles[near][:, [0, 1]],
+                                                mesh.triangles[near][:, [1, 2]],
+                                                mesh.triangles[near][:, [2, 0]]]), axis=1)
+                every = np.unique(every, axis=0)
+                axes.add_artist(segments_path(xy[every], edgecolor=INK, linewidth=0.12,
+                                              alpha=0.7, gid="mesh-edges"))
+            handles = []
+            for kind, seg in outline.items():
+                if len(seg):
+                    st = OUTLINE_STYLE[kind]
+                    axes.add_artist(chained_path(seg, edgecolor=st["colors"],
+                                                 linewidth=st["linewidths"],
+                                                 linestyle=st["linestyles"], capstyle="butt",
+                                                 gid=f"outline-{kind}"))
+                    handles.append(Line2D([], [], color=st["colors"], lw=st["linewidths"],
+                                          ls=st["linestyles"], label=OUTLINE_LABEL[kind]))
+            for j, p in _surface_label_points(result):
+                if x0 <= p[0] <= x1 and y0 <= p[1] <= y1:
+                    axes.annotate(f"S{j + 1}", p, fontsize=6.5, ha="center", va="center",
+                                  color=INK, gid=f"surface-label-S{j + 1}",
+                                  bbox=dict(boxstyle="round,pad=0.2", fc="white", ec=MUTED,
+                                            lw=0.4))
+            if not is_close:
+                outline_detail(axes, result)
         bar = colour_bar(fig, ax, shade, aspect,
                          f"element size [{model.length_unit}], log scale", length=0.45)
         _plain_log_ticks(bar, aspect)
@@ -203,7 +214,7 @@ def _plain_log_ticks(bar, aspect):
         def _num_to_string(self, x, vmin, vmax):
             return f"{x:g}"
     from .catalogue import side_or_below
-    axis = bar.ax.yaxis if side_or_below(aspect) else bar.ax.xaxis
+    axis = bar.ax.yaxis if bar.orientation == "vertical" else bar.ax.xaxis
     axis.set_major_formatter(Plain())
     axis.set_minor_formatter(Plain(labelOnlyBase=False))
 

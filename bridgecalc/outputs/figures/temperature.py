@@ -10,12 +10,12 @@ from matplotlib.text import Text
 
 from ...model.rules import temperature_levels, two_temperature_sides
 from ...results import printed_position
-from .catalogue import material_codes, view
+from .catalogue import detail_window, material_codes, view
 from .edges import material_edges, segments_path
 from .isotherms import (MAX_ISOTHERMS, bar_ticks, default_isotherm_step, isotherm_levels,
                         label_isotherms)
 from .moisture import draw_critical_isotherm
-from .layout import colour_bar, frame, new_figure, outline_detail
+from .layout import colour_bar, frame, new_figure, outline_detail, views
 from .raster import field_image, linear_in_cells, pixel_grid
 from .style import INK, STYLE, TEMPERATURE_CMAP, plt
 
@@ -46,6 +46,7 @@ def temperature_figure(result, isotherm_step=None, detail=False):
     asked = isotherm_step or default_isotherm_step(model)
     lines, step = isotherm_levels(lo, hi, asked)
     extent = view(result, detail)
+    close = None if detail else detail_window(result)
     with plt.rc_context(STYLE):
         fig, ax, aspect = new_figure(
             result, model.name or "junction",
@@ -53,34 +54,35 @@ def temperature_figure(result, isotherm_step=None, detail=False):
             + f", surface-temperature case ({environments_text(model)}); "
             f"isotherms every {step:g} K"
             + (f" (not {asked:g} K: at most {MAX_ISOTHERMS} lines)" if step != asked else ""),
-            extent, panel_at_edge=True)
-        frame(ax, result, extent)
+            extent, panel_at_edge=True, close=close)
         vmin = min(levels[0], lo)
         vmax = max(levels[-1], hi)
-        # Linear interpolation in each triangle: for P1 it is the computed
-        # field itself, sampled at the image's pixels.
-        gx, gy, px, py, cells = pixel_grid(fig, ax, extent, triangulation, result)
-        values = np.full(px.shape, np.nan)
-        inside = cells >= 0
-        values[inside] = linear_in_cells(xy, mesh.triangles, theta, cells[inside],
-                                         px[inside], py[inside])
-        filled = field_image(ax, gx, gy, values, cmap=TEMPERATURE_CMAP,
-                             norm=mcolors.Normalize(vmin=vmin, vmax=vmax),
-                             interpolation="bilinear")
-        filled.set_gid("temperature-fill")
+        norm = mcolors.Normalize(vmin=vmin, vmax=vmax)
         names, codes = material_codes(result)
-        ax.add_artist(segments_path(xy[material_edges(mesh, codes)], edgecolor="white",
-                                   linewidth=0.6, alpha=0.7))
-        marker = _mark_minimum(ax, result, extent, (gx, gy, cells))
-        if len(lines):
-            iso = ax.tricontour(triangulation, theta, levels=lines, colors=INK,
-                                linewidths=0.55)
-            label_isotherms(ax, iso, filled, avoid=[] if marker is None else [marker],
-                            outline=xy[mesh.boundary_edges])
-        draw_critical_isotherm(ax, triangulation, theta, result)
-        _mark_distances(ax, result, extent)
-        if not detail:
-            outline_detail(ax, result)
+        inner = xy[material_edges(mesh, codes)]
+        for axes, shown, is_close in views(fig, ax, extent, detail):
+            frame(axes, result, shown)
+            # Linear interpolation in each triangle: for P1 it is the computed
+            # field itself, sampled at the image's pixels.
+            gx, gy, px, py, cells = pixel_grid(fig, axes, shown, triangulation, result)
+            values = np.full(px.shape, np.nan)
+            inside = cells >= 0
+            values[inside] = linear_in_cells(xy, mesh.triangles, theta, cells[inside],
+                                             px[inside], py[inside])
+            filled = field_image(axes, gx, gy, values, cmap=TEMPERATURE_CMAP, norm=norm,
+                                 interpolation="bilinear")
+            filled.set_gid("temperature-fill")
+            axes.add_artist(segments_path(inner, edgecolor="white", linewidth=0.6, alpha=0.7))
+            marker = _mark_minimum(axes, result, shown, (gx, gy, cells))
+            if len(lines):
+                iso = axes.tricontour(triangulation, theta, levels=lines, colors=INK,
+                                      linewidths=0.55)
+                label_isotherms(axes, iso, filled, avoid=[] if marker is None else [marker],
+                                outline=xy[mesh.boundary_edges])
+            draw_critical_isotherm(axes, triangulation, theta, result)
+            _mark_distances(axes, result, shown)
+            if not is_close:
+                outline_detail(axes, result)
         colour_bar(fig, ax, filled, aspect, "temperature θ [°C]",
                    ticks=bar_ticks(vmin, vmax, step))
     return fig

@@ -23,7 +23,14 @@ from .bounds import bounds_blocks
 from .blocks import Figure, Heading, KeyFigures, Para, Report, Table
 from .numbers import g_text as _g, n_text as _n, point_text as _point
 from .title_block import report_date, title_block_table
+from ..figures.catalogue import SECTION_FIGURES, detail_window
 
+
+#: Added to the caption of a figure of the section that shows its close view
+#: beside the whole.
+CLOSE_VIEW_CAPTION = (" Beside the whole section, a close view of the junction (where the "
+                      "heat flux and the temperature gradient concentrate); the dashed box "
+                      "on the whole marks it.")
 
 FIGURE_CAPTIONS = MappingProxyType({
     "materials": "Materials as modelled, regions drawn in file order (a later region "
@@ -470,6 +477,8 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
     blocks.append(Heading(2, "Figures", "figures"))
     for k, name in enumerate(figures or {}):
         caption = FIGURE_CAPTIONS.get(name, name)
+        if name in SECTION_FIGURES and detail_window(result) is not None:
+            caption += CLOSE_VIEW_CAPTION
         if name == "surface_temperature" and "f_rsi" not in st:
             caption = caption.replace("; the right axis reads it as a temperature factor", "")
         elif name == "surface_temperature":
