@@ -8,6 +8,7 @@ import io
 import math
 from dataclasses import dataclass, field
 
+from ..sweep.table import csv_cell
 from .junction import JunctionOutcome
 from .project import JunctionSpec, Project
 
@@ -170,18 +171,8 @@ class ScheduleResult:
         return out
 
 
-def _cell(value) -> str:
-    if value is None:
-        return ""
-    if isinstance(value, bool):
-        return "true" if value else "false"
-    if isinstance(value, float):
-        return repr(value)
-    return str(value)
-
-
 def parameters_text(params: dict) -> str:
-    return "; ".join(f"{k}={_cell(v)}" for k, v in params.items())
+    return "; ".join(f"{k}={csv_cell(v)}" for k, v in params.items())
 
 
 def csv_text(result: ScheduleResult) -> str:
@@ -193,7 +184,7 @@ def csv_text(result: ScheduleResult) -> str:
     writer.writerow(CSV_COLUMNS)
     for r in result.rows:
         o = r.outcome
-        writer.writerow([_cell(v) for v in (
+        writer.writerow([csv_cell(v) for v in (
             r.spec.name, r.spec.model_text, parameters_text(r.spec.params),
             "" if r.spec.between is None else "|".join(r.spec.between), r.spec.length,
             o.psi, o.psi_error_estimate, r.psi_length, r.psi_length_error_bound,
@@ -204,8 +195,8 @@ def csv_text(result: ScheduleResult) -> str:
     if total is not None:
         row = [""] * len(CSV_COLUMNS)
         row[0] = "H_TB = Σ Ψ·l"
-        row[CSV_COLUMNS.index("psi_length [W/K]")] = _cell(total)
-        row[CSV_COLUMNS.index("psi_length_error_bound [W/K]")] = _cell(result.error_bound)
+        row[CSV_COLUMNS.index("psi_length [W/K]")] = csv_cell(total)
+        row[CSV_COLUMNS.index("psi_length_error_bound [W/K]")] = csv_cell(result.error_bound)
         row[CSV_COLUMNS.index("status")] = "total"
         writer.writerow(row)
     return buffer.getvalue()

@@ -18,7 +18,8 @@ from .variants import CAUTION, CSV_FILE, FIGURE_FILE, NOTES_FILE, RESULT_COLUMNS
 MOISTURE_COLUMNS = ("moisture_verdict", "critical_month", "f_rsi_required [-]")
 
 
-def _cell(value) -> str:
+def csv_cell(value) -> str:
+    """One CSV cell: empty for None, true/false, floats by repr (round-trips exactly)."""
     if value is None:
         return ""
     if isinstance(value, bool):
@@ -52,13 +53,13 @@ def csv_text(rows: list[VariantResult]) -> str:
     for r in rows:
         couplings = {pair: (value, psi) for pair, value, psi in r.couplings}
         weights = dict(r.weighting_factors)
-        writer.writerow([r.index, *(_cell(r.params.get(n)) for n in names),
-                         _cell(r.psi), _cell(r.coupling_coefficient),
-                         _cell(r.theta_si_min), _cell(r.f_rsi), r.status,
-                         r.convergence, _cell(r.mesh_nodes),
-                         *(_cell(v) for p in pairs for v in couplings.get(p, (None, None))),
-                         *(_cell(weights.get(name)) for name in environments),
-                         *((_cell(v) for v in (r.moisture or (None, None, None)))
+        writer.writerow([r.index, *(csv_cell(r.params.get(n)) for n in names),
+                         csv_cell(r.psi), csv_cell(r.coupling_coefficient),
+                         csv_cell(r.theta_si_min), csv_cell(r.f_rsi), r.status,
+                         r.convergence, csv_cell(r.mesh_nodes),
+                         *(csv_cell(v) for p in pairs for v in couplings.get(p, (None, None))),
+                         *(csv_cell(weights.get(name)) for name in environments),
+                         *((csv_cell(v) for v in (r.moisture or (None, None, None)))
                            if checked else ())])
     return buffer.getvalue()
 
@@ -74,7 +75,7 @@ def _positions(values) -> tuple[dict, list | None]:
     distinct = list(dict.fromkeys(values))
     if all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in distinct):
         return {v: float(v) for v in distinct}, None
-    labels = [_cell(v) for v in distinct]
+    labels = [csv_cell(v) for v in distinct]
     return {v: float(k) for k, v in enumerate(distinct)}, labels
 
 
@@ -115,7 +116,7 @@ def sweep_figure(rows: list[VariantResult], varied: list[str], title: str = ""):
                             linestyle=LINE_STYLES[k % len(LINE_STYLES)],
                             marker=MARKERS[k // len(LINE_STYLES) % len(MARKERS)],
                             markersize=3, linewidth=1.0,
-                            label=", ".join(_cell(v) for v in key))
+                            label=", ".join(csv_cell(v) for v in key))
                 ax.set_ylabel(axis_label)
                 ax.set_xlabel(name)
                 if labels is not None:
@@ -164,9 +165,9 @@ def notes_text(rows: list[VariantResult], vary: dict, script: str,
              f"variants: {len(rows)} ({len(rows) - len(failed)} computed, "
              f"{len(failed)} failed)"]
     for name, values in vary.items():
-        lines.append(f"varied   {name}: {', '.join(_cell(v) for v in values)}")
+        lines.append(f"varied   {name}: {', '.join(csv_cell(v) for v in values)}")
     for name, value in (base_params or {}).items():
-        lines.append(f"fixed    {name}: {_cell(value)}")
+        lines.append(f"fixed    {name}: {csv_cell(value)}")
     lines.append("other parameters: the script's defaults (every value is in sweep.csv)")
     stated = dimension_system or next((r.dimension_system for r in rows if r.dimension_system),
                                       None)
