@@ -113,3 +113,14 @@ def test_an_inverted_rectangle_built_in_memory_is_refused():
         validate(model)
     with pytest.raises(ModelError, match="must be greater"):
         api.run(model)
+
+
+def test_deeply_nested_project_file_is_refused_naming_the_file(tmp_path, capsys):
+    """A project file goes through the same TOML reading as a model file: nesting
+    thousands deep is refused with exit 2, not a RecursionError traceback."""
+    path = tmp_path / "deep-project.toml"
+    path.write_text("format = 1\nx = " + "[" * 5000 + "]" * 5000 + "\n", encoding="utf-8")
+    assert main(["schedule", str(path), "--out", str(tmp_path / "out")]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith(f"error: {path}: ") and "nested too deeply" in err
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["deep-project.toml"]

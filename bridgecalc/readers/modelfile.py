@@ -57,22 +57,53 @@ def read(path) -> Model:
         When the file cannot be read or breaks a rule of the format; the
         message names the file, the table and the key.
     """
+    return loads(read_text(path, "model file"), origin=os.fspath(path))
+
+
+def read_text(path, kind: str) -> str:
+    """The text of a TOML file of the tool (a model or a project file).
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+    kind : str
+        What the file is, for messages ("model file", "project file").
+
+    Raises
+    ------
+    ModelError
+        When the file is missing, a folder, unreadable or not UTF-8 text.
+    """
     origin = os.fspath(path)
     try:
         with open(path, "rb") as fh:
             raw = fh.read()
     except FileNotFoundError:
-        raise ModelError(f"{origin}: no such model file") from None
+        raise ModelError(f"{origin}: no such {kind}") from None
     except IsADirectoryError:
-        raise ModelError(f"{origin}: is a folder, not a model file") from None
+        raise ModelError(f"{origin}: is a folder, not a {kind}") from None
     except OSError as exc:
-        raise ModelError(f"{origin}: cannot read the model file ({exc.strerror or exc})") from None
+        raise ModelError(f"{origin}: cannot read the {kind} ({exc.strerror or exc})") from None
     try:
-        text = raw.decode("utf-8-sig")    # a byte-order mark (some Windows editors) is dropped
+        return raw.decode("utf-8-sig")    # a byte-order mark (some Windows editors) is dropped
     except UnicodeDecodeError as exc:
         raise ModelError(f"{origin}: not a text file in UTF-8 (bad byte at position "
-                         f"{exc.start}); a model file is TOML text") from None
-    return loads(text, origin=origin)
+                         f"{exc.start}); a {kind} is TOML text") from None
+
+
+def parse_toml(text: str, check: Checker) -> dict:
+    """The tables of TOML ``text``; what TOML or Python cannot read fails ``check``
+    with the reason (bad syntax, nesting thousands deep, numbers too long)."""
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        check.fail("", f"not a valid TOML file: {exc}")
+    except RecursionError:       # arrays or inline tables nested thousands deep
+        check.fail("", "arrays or inline tables are nested too deeply to read; the "
+                       "tool's files nest at most a few levels (a polygon's holes: three)")
+    except ValueError:           # Python's limit on converting long integers
+        check.fail("", "a number in the file has too many digits to read "
+                       f"(over {sys.get_int_max_str_digits()})")
 
 
 def loads(text: str, origin: str = "<string>") -> Model:
@@ -93,16 +124,7 @@ def loads(text: str, origin: str = "<string>") -> Model:
     check = Checker(origin)
     if not isinstance(text, str):
         check.fail("", f"expected the text of a model file, got {describe(text)}")
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        check.fail("", f"not a valid TOML file: {exc}")
-    except RecursionError:       # arrays or inline tables nested thousands deep
-        check.fail("", "arrays or inline tables are nested too deeply to read; a model "
-                       "file nests at most a few levels (a polygon's holes: three)")
-    except ValueError:           # Python's limit on converting long integers
-        check.fail("", "a number in the file has too many digits to read "
-                       f"(over {sys.get_int_max_str_digits()})")
+    data = parse_toml(text, check)
     if not data:
         check.fail("", "the file is empty; a model needs at least format, length_unit, "
                        "materials, regions, environments and surfaces")

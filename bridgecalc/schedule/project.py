@@ -15,7 +15,6 @@ from __future__ import annotations
 import math
 import os
 import re
-import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -24,6 +23,7 @@ from ..model import DIMENSION_SYSTEMS, FORMAT
 from ..model.checker import Checker, describe, is_real
 from ..model.title_block import TitleBlock
 from ..readers import script as scripts
+from ..readers.modelfile import parse_toml, read_text
 from ..readers.title_block import read_title_block
 
 TOP_LEVEL_KEYS = ("format", "name", "dimension_system", "junctions", "report", "f_rsi_min",
@@ -141,22 +141,7 @@ def read_project(path) -> Project:
     origin = os.fspath(path)
     check = Checker(origin)
     path = Path(path)
-    try:
-        raw = path.read_bytes()
-    except FileNotFoundError:
-        raise ModelError(f"{origin}: no such project file") from None
-    except IsADirectoryError:
-        raise ModelError(f"{origin}: is a folder, not a project file") from None
-    except OSError as exc:
-        raise ModelError(f"{origin}: cannot read the project file "
-                         f"({exc.strerror or exc})") from None
-    try:
-        data = tomllib.loads(raw.decode("utf-8-sig"))
-    except UnicodeDecodeError as exc:
-        check.fail("", f"not a text file in UTF-8 (bad byte at position {exc.start}); "
-                       f"a project file is TOML text")
-    except tomllib.TOMLDecodeError as exc:
-        check.fail("", f"not a valid TOML file: {exc}")
+    data = parse_toml(read_text(path, "project file"), check)
     if not data:
         check.fail("", "the file is empty; a project needs format, name, dimension_system "
                        "and [[junctions]]")
