@@ -163,6 +163,7 @@ def draw_figures(result, folder, isotherm_step=None, f_rsi_min=None, workers=Non
     written: dict = {n: [] for n in names}
     if workers > 1 and can_fork():
         figures.prepare(vector=len(formats) > 1)        # once here, not once per worker
+        figures.share_ahead(result)
         for name, paths in map_forked(job, "draw", drawing_tasks(names, formats), workers):
             written[name] += paths
     else:

@@ -62,7 +62,8 @@ _DRAWING = MappingProxyType({
 })
 
 __all__ = ("FIGURES", "DETAIL_FIGURES", "FORMATS", "DEFAULT_FORMATS", "PNG_DPI", "PAGE_WIDTH",
-           "figure_formats", "figure_names", "figure_size", "detail_window", "build_figure", "write_figures", *_DRAWING)
+           "figure_formats", "figure_names", "figure_size", "detail_window", "build_figure", "share_ahead",
+           "write_figures", *_DRAWING)
 
 
 def __getattr__(name: str):
@@ -93,6 +94,39 @@ def build_figure(name: str, result, **options):
         "moisture": lambda: moisture_figure(result),
     }
     return builders[name]()
+
+
+def share_ahead(result) -> None:
+    """Work out, and keep on ``result``, what several figures draw from: the
+    material boundaries, the triangle centres, the heat-flux density, and
+    which triangle lies under each pixel of each view (:func:`.raster.pixel_grid`).
+
+    Called before figure workers are forked, so that each finds them there
+    instead of working them out again.
+    """
+    import matplotlib.tri as mtri
+    from .catalogue import heat_flux, padded_extent, section_points
+    from .edges import material_boundaries
+    from .layout import new_figure, views
+    from .raster import pixel_grid
+    from .style import STYLE, plt
+    xy, _ = section_points(result)
+    material_boundaries(result)
+    heat_flux(result)
+    extent = padded_extent(result)
+    with plt.rc_context(STYLE):
+        fig, ax, _ = new_figure(result, "", "", extent, close=detail_window(result))
+    try:
+        triangulation = mtri.Triangulation(xy[:, 0], xy[:, 1], result.mesh.triangles)
+        for axes, (lo, hi), _ in views(fig, ax, extent, False):
+            # the plot box as :func:`.layout.frame` leaves it
+            axes.set_xlim(lo[0], hi[0])
+            axes.set_ylim(lo[1], hi[1])
+            axes.set_aspect("equal", adjustable="box", anchor="SW")
+            axes.apply_aspect()
+            pixel_grid(fig, axes, (lo, hi), triangulation, result)
+    finally:
+        plt.close(fig)
 
 
 def write_figures(result, folder, isotherm_step=None, f_rsi_min=None,

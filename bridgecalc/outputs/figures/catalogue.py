@@ -81,6 +81,41 @@ LEGEND_ROW = 0.3
 PROFILE_HEIGHT, PROFILE_BOTTOM = 3.6, 1.2
 
 
+def kept(result, name: str, compute):
+    """``compute()``, worked out once per result and kept on it
+    (``_bridgecalc_kept``): what several figures of one run draw from the same
+    mesh (material boundaries, triangle centres, the heat-flux density). Kept
+    before figure workers are forked, each worker finds it there. Callers
+    must not write into what they get."""
+    store = getattr(result, "_bridgecalc_kept", None)
+    if store is None:
+        store = {}
+        try:
+            result._bridgecalc_kept = store
+        except AttributeError:      # pragma: no cover - a result that takes no attributes
+            pass
+    if name not in store:
+        store[name] = compute()
+    return store[name]
+
+
+def section_points(result):
+    """Node positions and triangle centres [length_unit]."""
+    def compute():
+        xy = result.mesh.nodes / result.model.metres_per_unit
+        return xy, xy[result.mesh.triangles].mean(axis=1)
+    return kept(result, "points", compute)
+
+
+def heat_flux(result):
+    """Heat-flux density q (heat-flow case) per triangle [W/m²], shape (T, 2), and |q|."""
+    def compute():
+        from ...results import heat_flux_density
+        q = heat_flux_density(result.model, result.heat_flow_case.field)
+        return q, np.hypot(q[:, 0], q[:, 1])
+    return kept(result, "heat_flux", compute)
+
+
 def padded_extent(result):
     """Plot limits [length_unit]: the section's bounding box and a 3 % margin."""
     xy = result.mesh.nodes / result.model.metres_per_unit
@@ -144,7 +179,6 @@ def detail_window(result):
 
 
 def _concentration_window(result):
-    from ...results import heat_flux_density
     model, mesh = result.model, result.mesh
     xy = mesh.nodes / model.metres_per_unit
     lo, hi = padded_extent(result)
@@ -155,8 +189,7 @@ def _concentration_window(result):
     e1, e2 = corners[:, 1] - corners[:, 0], corners[:, 2] - corners[:, 0]
     area = 0.5 * np.abs(e1[:, 0] * e2[:, 1] - e1[:, 1] * e2[:, 0])
     centre = corners.mean(axis=1)
-    q = heat_flux_density(model, result.heat_flow_case.field)
-    magnitude = np.hypot(q[:, 0], q[:, 1])
+    q, magnitude = heat_flux(result)
     median = _weighted_quantile(magnitude, area, 0.5)
     high = _weighted_quantile(magnitude, area, 0.995)
     strong = magnitude > max(CONCENTRATION * median, np.sqrt(median * high))

@@ -36,6 +36,18 @@ def material_edges(mesh, label) -> np.ndarray:
     return key[keep]
 
 
+def material_boundaries(result) -> np.ndarray:
+    """Segments [length_unit] between materials and along the outline, shape
+    (E, 2, 2): :func:`material_edges` by material, kept on the result
+    (:func:`.catalogue.kept`) for every figure that draws them."""
+    from .catalogue import kept, material_codes, section_points
+
+    def compute():
+        xy, _ = section_points(result)
+        return xy[material_edges(result.mesh, material_codes(result)[1])]
+    return kept(result, "material_boundaries", compute)
+
+
 def segments_path(segments, **style) -> PathPatch:
     """Many line segments as one compound path: one element in SVG and PDF.
 

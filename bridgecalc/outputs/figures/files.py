@@ -44,8 +44,8 @@ def _defer_import(name: str) -> None:
 
 
 def prepare(vector: bool = True) -> None:
-    """Load the fonts, and with ``vector`` import the SVG and PDF writers, ahead
-    of drawing.
+    """Import the figure modules and load the fonts, and with ``vector`` import
+    the SVG and PDF writers, ahead of drawing.
 
     Done once before figure workers are forked, they share it instead of
     each doing it again.
@@ -54,6 +54,9 @@ def prepare(vector: bool = True) -> None:
         _defer_import("fontTools.subset")
         import matplotlib.backends.backend_pdf  # noqa: F401
         import matplotlib.backends.backend_svg  # noqa: F401
+    # the figure modules (and matplotlib.tri, contour, offsetbox they use):
+    # imported here, once, rather than in each worker after the fork
+    from . import heat_flux, moisture, profile, section, temperature  # noqa: F401
     from matplotlib import font_manager
     for weight in ("normal", "bold"):
         font_manager.get_font(font_manager.findfont(

@@ -6,11 +6,9 @@ from __future__ import annotations
 import matplotlib.colors as mcolors
 import matplotlib.tri as mtri
 import numpy as np
-from matplotlib.ticker import LogFormatter
 
-from ...results import heat_flux_density
-from .catalogue import detail_window, material_codes, view
-from .edges import material_edges, segments_path
+from .catalogue import detail_window, heat_flux, view
+from .edges import material_boundaries, segments_path
 from .layout import colour_bar, frame, new_figure, outline_detail, views
 from .raster import cells_on_grid, field_image, pixel_grid
 from .style import HEAT_FLUX_CMAP, INK, STYLE, plt
@@ -31,8 +29,7 @@ def heat_flux_figure(result, detail=False):
     """
     model, mesh = result.model, result.mesh
     xy = mesh.nodes / model.metres_per_unit
-    q = heat_flux_density(model, result.heat_flow_case.field)
-    magnitude = np.hypot(q[:, 0], q[:, 1])
+    q, magnitude = heat_flux(result)
     top = float(magnitude.max())
     floor = max(top * 1e-3, float(magnitude[magnitude > 0].min()) if np.any(magnitude > 0)
                 else 1e-12)
@@ -48,8 +45,7 @@ def heat_flux_figure(result, detail=False):
              "Heat-flux density |q| = |−λ∇θ|")
             + ", heat-flow case; arrows show direction only", extent, close=close)
         norm = mcolors.LogNorm(vmin=floor, vmax=top)
-        names, codes = material_codes(result)
-        inner = xy[material_edges(mesh, codes)]
+        inner = material_boundaries(result)
         for axes, shown, is_close in views(fig, ax, extent, detail):
             frame(axes, result, shown)
             # |q| is constant in each triangle: each pixel shows its triangle's value
@@ -63,21 +59,9 @@ def heat_flux_figure(result, detail=False):
             _flow_arrows(axes, triangulation, xy, q, magnitude, shown)
             if not is_close:
                 outline_detail(axes, result)
-        bar = colour_bar(fig, ax, shade, aspect, "heat-flux density |q| [W/m²], log scale")
-        # plain numbers (0.1, 1, 10; 3, 6 between them when the range is
-        # short), not powers of ten in mathtext
-        axis = bar.ax.yaxis if bar.orientation == "vertical" else bar.ax.xaxis
-        axis.set_major_formatter(PlainLogFormatter())
-        axis.set_minor_formatter(PlainLogFormatter(labelOnlyBase=False))
+        # plain numbers (0.1, 1, 10; 2, 5 between them when the range is short)
+        colour_bar(fig, ax, shade, aspect, "heat-flux density |q| [W/m²], log scale")
     return fig
-
-
-class PlainLogFormatter(LogFormatter):
-    """Log-axis tick labels as plain numbers (0.1, 2, 40), not mathtext powers;
-    which ticks get a label is matplotlib's own choice."""
-
-    def _num_to_string(self, x, vmin, vmax):
-        return f"{x:g}"
 
 
 def _flow_arrows(ax, triangulation, xy, q, magnitude, extent):

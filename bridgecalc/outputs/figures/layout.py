@@ -8,12 +8,13 @@ import math
 
 import numpy as np
 from matplotlib.cm import ScalarMappable
+from matplotlib.colors import LogNorm
 from matplotlib.lines import Line2D
 from matplotlib.patches import Polygon
 from mpl_toolkits.axes_grid1.anchored_artists import AnchoredSizeBar
 
 from .catalogue import (MARGIN_BOTTOM, MARGIN_LEFT, MARGIN_RIGHT, PAGE_WIDTH, SIDE_PANEL,
-                        below_panel, beside_layout, detail_window, section_layout,
+                        below_panel, beside_layout, detail_window, section_layout, section_points,
                         side_or_below)
 from .style import INK, INTERIOR, MUTED, plt
 
@@ -199,8 +200,7 @@ def nice_step(raw: float) -> float:
 
 def _emptiest_corner(result, extent) -> str:
     """The corner of the view with the fewest triangle centroids, for the scale bar."""
-    xy = result.mesh.nodes / result.model.metres_per_unit
-    centroids = xy[result.mesh.triangles].mean(axis=1)
+    _, centroids = section_points(result)
     lo, hi = extent
     span = np.maximum(hi - lo, 1e-12)
     rel = (centroids - lo) / span
@@ -245,12 +245,31 @@ def legend(fig, ax, handles, aspect, title=None, below=None):
     return leg
 
 
+def log_ticks(lo: float, hi: float, most: int = 7) -> list[float]:
+    """Ticks of a log scale from ``lo`` to ``hi`` (0 < lo < hi): powers of ten,
+    with 2 and 5 times them (then 3 too) while fewer than three fall in the
+    range; every other power when more than ``most`` would. Labelled as plain
+    numbers (0.1, 2, 40), not powers in mathtext."""
+    first, last = math.floor(math.log10(lo)), math.ceil(math.log10(hi))
+    ticks: list[float] = []
+    for multiples in ((1,), (1, 2, 5), (1, 2, 3, 5)):
+        ticks = [float(f"{m * 10.0 ** e:.12g}") for e in range(first, last + 1)
+                 for m in multiples if lo * (1 - 1e-9) <= m * 10.0 ** e <= hi * (1 + 1e-9)]
+        if len(ticks) >= 3:
+            break
+    while len(ticks) > most:
+        ticks = ticks[::2]
+    return ticks
+
+
 def colour_bar(fig, ax, mappable, aspect, label, ticks=None, length=1.0):
     """Colour bar in the figure's panel: upright beside a tall section, flat below a wide one.
 
     It is drawn from ``mappable``'s colour map and norm only (a field image
     holds colours, not values). ``length``: the share of a side panel's height
-    it takes (the rest may hold a legend).
+    it takes (the rest may hold a legend). ``ticks`` [the field's unit]:
+    default, on a log scale, :func:`log_ticks`; labelled as plain numbers,
+    without minor ticks.
     """
     left, bottom, width, height = fig._bridgecalc_panel
     mappable = ScalarMappable(norm=mappable.norm, cmap=mappable.cmap)
@@ -263,8 +282,14 @@ def colour_bar(fig, ax, mappable, aspect, label, ticks=None, length=1.0):
                             min(width, 4.0 / PAGE_WIDTH), 0.16 / fig.get_figheight()])
         bar = fig.colorbar(mappable, cax=cax, orientation="horizontal")
     bar.set_label(label)
+    if ticks is None and isinstance(mappable.norm, LogNorm):
+        ticks = log_ticks(mappable.norm.vmin, mappable.norm.vmax)
     if ticks is not None:
-        bar.set_ticks(ticks)
+        # a few labelled ticks and no minor ones: each tick is a line and a
+        # text that matplotlib lays out and draws (some 1 ms apiece), and a
+        # log scale's default minor ticks are some thirty of them
+        bar.set_ticks(ticks, labels=[f"{t:g}" for t in ticks])
+    bar.minorticks_off()
     bar.outline.set_linewidth(0.5)
     cax.tick_params(labelsize=7, length=2.5, width=0.5)
     cax.set_gid("colour-bar")

@@ -9,6 +9,8 @@ from __future__ import annotations
 
 import matplotlib
 import numpy as np
+from matplotlib.image import AxesImage
+from matplotlib.transforms import Affine2D, Bbox
 
 
 #: Pixels per inch of plot for the sampled field images (shown at 200 dpi in PNG).
@@ -118,10 +120,11 @@ def pixel_grid(fig, ax, extent, triangulation, result=None):
     the costly part. The arrays are shared: callers must not write into them.
     """
     lo, hi = extent
+    # one sample per pixel of the plot as the PNG has it (FIELD_PPI = PNG_DPI):
+    # the image is then drawn as it is, without resampling (:class:`PixelImage`)
     box = ax.get_position()
-    width_in = box.width * fig.get_figwidth()
-    nx = max(int(width_in * FIELD_PPI), 50)
-    ny = max(int(nx * (hi[1] - lo[1]) / (hi[0] - lo[0])), 20)
+    nx = max(round(box.width * fig.get_figwidth() * FIELD_PPI), 50)
+    ny = max(round(box.height * fig.get_figheight() * FIELD_PPI), 20)
     key = (tuple(np.asarray(lo, float).round(12)), tuple(np.asarray(hi, float).round(12)),
            nx, ny, len(triangulation.triangles))
     kept = getattr(result, "_bridgecalc_pixel_grids", None) if result is not None else None
@@ -161,12 +164,46 @@ def field_image(ax, gx, gy, values, cmap, norm, interpolation):
     lo, hi = _padded_extent_from_grid(gx, gy)
     cmap = matplotlib.colormaps[cmap].with_extremes(bad=ax.get_facecolor())
     rgba = cmap(norm(np.ma.masked_invalid(values)), bytes=True)
-    image = ax.imshow(rgba, origin="lower", extent=(lo[0], hi[0], lo[1], hi[1]),
-                      aspect="equal", zorder=1, interpolation=interpolation,
-                      interpolation_stage="rgba")
+    image = PixelImage(ax, origin="lower", extent=(lo[0], hi[0], lo[1], hi[1]), zorder=1,
+                       interpolation=interpolation, interpolation_stage="rgba")
+    image.set_data(rgba)
+    ax.add_image(image)
     image.set_cmap(cmap)
     image.set_norm(norm)
     return image
+
+
+class PixelImage(AxesImage):
+    """An image of colours that matches the pixels it is drawn on: drawn as it
+    is, without resampling.
+
+    Where the image's columns and rows are the plot's width and height in
+    output pixels to within one (a field sampled by :func:`pixel_grid` and
+    written at :data:`FIELD_PPI`), its pixels are put down at the plot's
+    corner, rounded to a whole pixel, as they are. Any other size (a vector
+    file's raster, another resolution) is resampled as matplotlib does.
+    Resampling an image of exactly the output's size changes no colour but
+    costs some 20 ms an image: a round trip of every pixel through floating
+    point.
+    """
+
+    def make_image(self, renderer, magnification=1.0, unsampled=False):
+        data = self._A
+        if not unsampled and data is not None and data.ndim == 3 and data.dtype == np.uint8:
+            x1, x2, y1, y2 = self.get_extent()
+            box = Bbox([[x1, y1], [x2, y2]]).transformed(self.get_transform())
+            rows, columns = data.shape[:2]
+            clip = self.get_clip_box() or self.axes.bbox
+            if (magnification == 1.0 and abs(box.width - columns) < 1
+                    and abs(box.height - rows) < 1 and self.origin == "lower"
+                    and box.x0 >= clip.x0 - 1 and box.x1 <= clip.x1 + 1
+                    and box.y0 >= clip.y0 - 1 and box.y1 <= clip.y1 + 1):
+                x0, y0 = np.floor(box.x0 + 0.5), np.floor(box.y0 + 0.5)
+                pixels = np.ascontiguousarray(data[::-1] if data.shape[2] == 4 else
+                                              np.dstack([data, np.full((rows, columns), 255,
+                                                                       np.uint8)])[::-1])
+                return pixels, x0, y0, Affine2D().translate(x0, y0)
+        return super().make_image(renderer, magnification, unsampled)
 
 
 def _padded_extent_from_grid(gx, gy):

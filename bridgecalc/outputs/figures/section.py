@@ -17,8 +17,8 @@ import numpy as np
 from matplotlib.lines import Line2D
 from matplotlib.patches import Patch, Polygon
 
-from .catalogue import detail_window, legend_rows, material_codes, padded_extent, view
-from .edges import chained_path, material_edges, segments_path
+from .catalogue import detail_window, legend_rows, material_codes, section_points, view
+from .edges import chained_path, material_boundaries, segments_path
 from .layout import frame, legend, new_figure, outline_detail, views
 from .style import (ADIABATIC, EXTERIOR, INK, INTERIOR, MUTED, STYLE, UNHEATED,
                     material_colours, plt)
@@ -47,9 +47,8 @@ def materials_figure(result, detail=False):
             + "lighter fill = lower conductivity λ", extent,
             legend_rows("materials", result), close=close)
         style = material_colours(model)
-        names, codes = material_codes(result)
-        xy = result.mesh.nodes / model.metres_per_unit
-        inner = xy[material_edges(result.mesh, codes)]
+        names, _ = material_codes(result)
+        inner = material_boundaries(result)
         thin = set()
         for axes, shown, is_close in views(fig, ax, extent, detail):
             for region in model.regions:
@@ -153,9 +152,8 @@ def mesh_figure(result, detail=False):
             legend_rows("mesh", result), close=close)
         triangulation = mtri.Triangulation(xy[:, 0], xy[:, 1], mesh.triangles)
         norm = mcolors.LogNorm(vmin=lo, vmax=hi)
-        names, codes = material_codes(result)
-        inner = xy[material_edges(mesh, codes)]
-        centre = xy[mesh.triangles].mean(axis=1)
+        inner = material_boundaries(result)
+        _, centre = section_points(result)
         outline = _outline_segments(result)
         for axes, view_extent, is_close in views(fig, ax, extent, detail):
             frame(axes, result, view_extent)
@@ -198,25 +196,12 @@ def mesh_figure(result, detail=False):
                 outline_detail(axes, result)
         bar = colour_bar(fig, ax, shade, aspect,
                          f"element size [{model.length_unit}], log scale", length=0.45)
-        _plain_log_ticks(bar, aspect)
         legend(fig, ax, handles, aspect, title="outline", below=bar)
     return fig
 
 
 #: Element sizes: light where elements are large, dark where the study refined.
 MESH_CMAP = "bone"
-
-
-def _plain_log_ticks(bar, aspect):
-    from matplotlib.ticker import LogFormatter
-
-    class Plain(LogFormatter):
-        def _num_to_string(self, x, vmin, vmax):
-            return f"{x:g}"
-    from .catalogue import side_or_below
-    axis = bar.ax.yaxis if bar.orientation == "vertical" else bar.ax.xaxis
-    axis.set_major_formatter(Plain())
-    axis.set_minor_formatter(Plain(labelOnlyBase=False))
 
 
 def _outline_segments(result):

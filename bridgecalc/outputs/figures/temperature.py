@@ -10,8 +10,8 @@ from matplotlib.text import Text
 
 from ...model.rules import temperature_levels, two_temperature_sides
 from ...results import printed_position
-from .catalogue import detail_window, material_codes, view
-from .edges import material_edges, segments_path
+from .catalogue import detail_window, view
+from .edges import material_boundaries, segments_path
 from .isotherms import (MAX_ISOTHERMS, bar_ticks, default_isotherm_step, isotherm_levels,
                         label_isotherms)
 from .moisture import draw_critical_isotherm
@@ -58,8 +58,7 @@ def temperature_figure(result, isotherm_step=None, detail=False):
         vmin = min(levels[0], lo)
         vmax = max(levels[-1], hi)
         norm = mcolors.Normalize(vmin=vmin, vmax=vmax)
-        names, codes = material_codes(result)
-        inner = xy[material_edges(mesh, codes)]
+        inner = material_boundaries(result)
         for axes, shown, is_close in views(fig, ax, extent, detail):
             frame(axes, result, shown)
             # Linear interpolation in each triangle: for P1 it is the computed
