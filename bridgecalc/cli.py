@@ -194,8 +194,7 @@ def command_demo(args, stop=None) -> int:
     model = api.demo_model()
     out_dir = Path(args.out) if args.out else api.fresh_folder(Path.cwd() / "bridgecalc-demo")
     check_out_folder(out_dir)
-    _run_and_write(model, out_dir, args=args, stop=stop)
-    print(f"report: {out_dir / api.report_file()}")
+    _run_and_write(model, out_dir, args=args, stop=stop)     # its summary names the report
     return 0
 
 

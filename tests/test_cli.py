@@ -308,9 +308,9 @@ def test_demo_writes_report(tmp_path, monkeypatch, capsys):
     monkeypatch.chdir(tmp_path)
     assert main(["demo"]) == 0
     out = capsys.readouterr().out
-    assert "report:" in out
     report = tmp_path / "bridgecalc-demo" / "report.html"
     assert report.exists() and "practitioner" in report.read_text(encoding="utf-8")
+    assert out.count(str(report)) == 1          # where the report is, said once
 
 
 def test_python_dash_m(tmp_path):

@@ -31,7 +31,9 @@ def run_summary(result, out_dir) -> str:
         for c in hf.coupling_coefficients:
             pair = f"{c.between[0]}–{c.between[1]}"
             psi = "" if c.psi is None else f"   Ψ {c.psi:9.4f} W/(m·K)"
-            lines.append(f"  L {pair[:16]:<16}{c.value:12.4f} W/(m·K){psi}")
+            # the whole pair of names: a long one takes a line of its own
+            lines.append(f"  L {pair:<16}{c.value:12.4f} W/(m·K){psi}" if len(pair) <= 16 else
+                         f"  L {pair}\n  {'':<18}{c.value:12.4f} W/(m·K){psi}")
     for f in hf.flanking:
         # the whole name: a long one takes a line of its own
         label = f"U·l {f.name}"

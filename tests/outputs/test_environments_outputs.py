@@ -117,3 +117,15 @@ def test_sweep_table_has_a_column_per_pair(tmp_path, monkeypatch):
     assert sum(g) == pytest.approx(1.0, abs=1e-9)
     assert float(rows[1]["theta_si_min [°C]"]) > float(rows[0]["theta_si_min [°C]"])
     assert "L[i|j], psi[i|j]" in (out / "sweep.txt").read_text(encoding="utf-8")
+
+
+def test_summary_keeps_long_environment_names_whole():
+    """A pair of long environment names is printed whole (on a line of its
+    own), not cut to the column's width."""
+    from bridgecalc import api
+    from bridgecalc.readers.modelfile import loads
+    long = "unheated garage under the east wing"
+    text = reference_grid.three_environment_case().replace('"garage"', f'"{long}"')
+    result = api.run(loads(text, "long names"), refinement=None)
+    out = api.summary(result, "out")
+    assert f"L room–{long}" in out and f"L {long}–outside" in out

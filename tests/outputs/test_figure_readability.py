@@ -69,14 +69,25 @@ def test_a_small_junction_gets_close_views_and_a_compact_section_none(demo, geom
     assert x0 <= 0 and x1 >= 400 and y0 <= 0 and y1 >= 220
     assert max(x1 - x0, y1 - y0) <= 0.5 * 2900          # a close view, not the whole
     # each figure of the section shows the close view beside the whole, in
-    # the same figure: a second plot whose limits are the window
+    # the same figure: a second plot whose limits are the window, grown
+    # about its centre where the plot's box is taller than the window (the
+    # mesh figure's colour bar and legend beside it need the height)
     for whole in ("materials", "mesh", "temperature", "heat_flux"):
         fig = figures.build_figure(whole, demo)
         try:
             close = [a for a in fig.axes if a.get_gid() == "close-view"]
             assert len(close) == 1, whole
             assert close[0].get_xlim() == pytest.approx((x0, x1))
-            assert close[0].get_ylim() == pytest.approx((y0, y1))
+            (c0, c1) = close[0].get_ylim()
+            assert c0 <= y0 + 1e-9 and c1 >= y1 - 1e-9
+            assert (c0 + c1) / 2 == pytest.approx((y0 + y1) / 2)
+            if whole in ("temperature", "heat_flux"):
+                assert (c0, c1) == pytest.approx((y0, y1))
+            # the plot fills its box: no room left empty above or beside it
+            box = close[0].get_position(original=True)
+            close[0].apply_aspect()
+            assert close[0].get_position().height == pytest.approx(box.height, rel=1e-3)
+            assert close[0].get_position().width == pytest.approx(box.width, rel=1e-3)
         finally:
             figures.plt.close(fig)
     compact = run(load(geometries / "timber_stud.py"), refinement=None)
@@ -89,30 +100,36 @@ def test_a_small_junction_gets_close_views_and_a_compact_section_none(demo, geom
 
 
 def test_the_close_view_frame_is_marked_on_the_whole(demo):
-    fig = figures.build_figure("heat_flux", demo)
-    try:
-        frames = [a for a in fig.axes[0].get_children() if a.get_gid() == "detail-window"]
-        assert len(frames) == 1
-        (x0, y0), (x1, y1) = figures.detail_window(demo)
-        corners = frames[0].get_xy()
-        assert corners[:, 0].min() == pytest.approx(x0) and corners[:, 1].max() == \
-            pytest.approx(y1)
-    finally:
-        figures.plt.close(fig)
+    for name in ("heat_flux", "mesh"):
+        fig = figures.build_figure(name, demo)
+        try:
+            frames = [a for a in fig.axes[0].get_children() if a.get_gid() == "detail-window"]
+            assert len(frames) == 1
+            (near,) = [a for a in fig.axes if a.get_gid() == "close-view"]
+            (x0, x1), (y0, y1) = near.get_xlim(), near.get_ylim()
+            corners = frames[0].get_xy()
+            assert corners[:, 0].min() == pytest.approx(x0) and corners[:, 1].max() == \
+                pytest.approx(y1) and corners[:, 1].min() == pytest.approx(y0)
+        finally:
+            figures.plt.close(fig)
 
 
 def test_the_coldest_point_is_marked_inside_the_close_view(demo):
-    fig = figures.build_figure("temperature_detail", demo)
-    try:
-        ax = fig.axes[0]
-        markers = [line for line in ax.lines if line.get_gid() == "theta-si-min-marker"]
-        assert len(markers) == 1
-        x, y = markers[0].get_xydata()[0]
-        assert (x, y) == pytest.approx(demo.surface_temperature_case.theta_si_min_at)
-        (x0, x1), (y0, y1) = ax.get_xlim(), ax.get_ylim()
-        assert x0 < x < x1 and y0 < y < y1
-    finally:
-        figures.plt.close(fig)
+    """In the close view beside the whole (the run's temperature figure) and
+    in the close view alone."""
+    for name in ("temperature", "temperature_detail"):
+        fig = figures.build_figure(name, demo)
+        try:
+            (ax,) = ([a for a in fig.axes if a.get_gid() == "close-view"]
+                     if name == "temperature" else fig.axes[:1])
+            markers = [line for line in ax.lines if line.get_gid() == "theta-si-min-marker"]
+            assert len(markers) == 1
+            x, y = markers[0].get_xydata()[0]
+            assert (x, y) == pytest.approx(demo.surface_temperature_case.theta_si_min_at)
+            (x0, x1), (y0, y1) = ax.get_xlim(), ax.get_ylim()
+            assert x0 < x < x1 and y0 < y < y1
+        finally:
+            figures.plt.close(fig)
 
 
 def test_every_material_shows_its_colour_even_a_thin_membrane():

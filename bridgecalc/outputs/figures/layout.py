@@ -20,8 +20,11 @@ from .style import INK, INTERIOR, MUTED, plt
 
 
 def outline_detail(ax, result):
-    """The detail window as a dashed box on a view of the whole section."""
-    window = detail_window(result)
+    """The close view's limits as a dashed box on a view of the whole section:
+    those of the close view beside it in the same figure, else the detail
+    window (:func:`.catalogue.detail_window`)."""
+    near = getattr(ax.figure, "_bridgecalc_close", None)
+    window = near._bridgecalc_extent if near is not None else detail_window(result)
     if window is None:
         return
     (x0, y0), (x1, y1) = window
@@ -139,7 +142,7 @@ def _beside_figure(title, subtitle, whole, close, legend_rows):
         return (left / PAGE_WIDTH, bottom / fig_h, width / PAGE_WIDTH, height / fig_h)
     ax = fig.add_axes(fraction(layout["whole"]))
     near = fig.add_axes(fraction(layout["close"]))
-    near._bridgecalc_extent = close
+    near._bridgecalc_extent = fill_box(close, layout["close"])
     near.set_gid("close-view")
     header(fig, title, subtitle + ("; the junction close up below" if layout["side"]
                                    else "; the junction close up at right"))
@@ -147,6 +150,24 @@ def _beside_figure(title, subtitle, whole, close, legend_rows):
     fig._bridgecalc_side = layout["side"]
     fig._bridgecalc_close = near
     return fig, ax, 1.0 if layout["side"] else 0.0
+
+
+def fill_box(extent, box):
+    """``extent`` (plot limits [length_unit]) grown about its centre to the
+    aspect of ``box`` (left, bottom, width, height [in]), so that a plot of
+    it at equal scale fills the box: a close view stacked beside a panel
+    taller than it shows more of the section above and below, instead of
+    leaving the room empty."""
+    (x0, y0), (x1, y1) = (np.asarray(extent[0], float), np.asarray(extent[1], float))
+    want = box[3] / box[2]
+    have = (y1 - y0) / max(x1 - x0, 1e-12)
+    if want > have * 1.001:
+        middle, half = (y0 + y1) / 2, (x1 - x0) * want / 2
+        y0, y1 = middle - half, middle + half
+    elif want < have / 1.001:
+        middle, half = (x0 + x1) / 2, (y1 - y0) / want / 2
+        x0, x1 = middle - half, middle + half
+    return np.array([x0, y0]), np.array([x1, y1])
 
 
 def views(fig, ax, extent, detail):

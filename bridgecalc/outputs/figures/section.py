@@ -227,7 +227,7 @@ OUTLINE_LABEL = MappingProxyType({
     "interior": "interior surface",
     "exterior": "exterior surface",
     "unheated": "surface of an unheated space",
-    "adiabatic": "adiabatic\n(cut-off or symmetry plane)",
+    "adiabatic": "adiabatic (cut-off\nor symmetry plane)",
 })
 
 

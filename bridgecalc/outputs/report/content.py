@@ -44,14 +44,6 @@ FIGURE_CAPTIONS = MappingProxyType({
                    "surface temperature) with labelled isotherms; the ring marks θsi,min. "
                    "With an ISO 13788 check, the dashed line is where the temperature factor "
                    "equals the critical month's fRsi,min: surface colder than it fails.",
-    "materials_detail": "Materials at the junction: a close view of the figure before, whose "
-                        "dashed box marks this window.",
-    "temperature_detail": "Temperatures at the junction: a close view of the figure before, "
-                          "whose dashed box marks this window; isotherms and θsi,min as there.",
-    "mesh_detail": "The mesh at the junction: a close view of the figure before, whose "
-                   "dashed box marks this window.",
-    "heat_flux_detail": "Heat-flux density at the junction: a close view of the figure "
-                        "before, whose dashed box marks this window.",
     "heat_flux": "Heat-flux density |q| = |−λ∇θ| per triangle in the heat-flow case, on a "
                  "log scale; arrows show the direction of heat flow only.",
     "moisture": "ISO 13788 monthly check: bars, the temperature factor fRsi,min each month "
