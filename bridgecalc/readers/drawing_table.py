@@ -23,7 +23,7 @@ from pathlib import Path
 
 from ..model.checker import Checker, describe
 from ..model.types import LENGTH_UNITS, DrawingSource, Region, Surface  # noqa: F401
-from . import drawing, shapes
+from . import drawing
 
 DRAWING_KEYS = ("file", "layers", "unit", "snap")
 LAYER_KEYS = ("layer", "material")
@@ -73,6 +73,8 @@ def read_table(check: Checker, table, origin: str, length_unit: str, materials: 
         For a bad key, or a drawing that cannot be read as asked (naming the
         drawing, the layer and the entity's handle).
     """
+    # shapes (shapely, SciPy's k-d tree): loaded for a model with a drawing only
+    from . import shapes
     if not isinstance(table, dict):
         check.fail("drawing", f"expected a table [drawing], got {describe(table)}")
     check.keys(table, DRAWING_KEYS, "drawing")
