@@ -86,7 +86,6 @@ def label_isotherms(ax, contours, field, avoid=(), outline=None):
     list of float
         The levels that got a label.
     """
-    from scipy.spatial import cKDTree
     fig = ax.get_figure()
     box = ax.get_window_extent()
     per_pt = fig.dpi / 72.0
@@ -99,9 +98,18 @@ def label_isotherms(ax, contours, field, avoid=(), outline=None):
         lines.append((float(level), [_densify(ax.transData.transform(np.asarray(q, float)),
                                               fig.dpi / 100)
                                      for q in pieces if len(q) >= 2]))
-    trees = [cKDTree(np.concatenate(pts)) if pts else None for _, pts in lines]
-    edge_tree = _outline_tree(ax, outline, box)
-    candidates = {}
+    radii = {k: max(0.62 * len(text(level)) * ISOTHERM_LABEL_SIZE * per_pt / 2 + clear,
+                    label_half_diagonal(text(level)) * per_pt)
+             for k, (level, _) in enumerate(lines)}
+    # distances matter up to the largest any test below makes: the room a
+    # score counts (4 × across) and a label's radius off the outline
+    reach = max([4 * across, *radii.values()]) + 1.0
+    drawn = [(k, np.concatenate(pts)) for k, (_, pts) in enumerate(lines) if pts]
+    near = PointsNear(np.concatenate([p for _, p in drawn]), reach,
+                      np.concatenate([np.full(len(p), k) for k, p in drawn])) if drawn else None
+    edge_points = _outline_points(ax, outline, box)
+    edge = None if edge_points is None else PointsNear(edge_points, reach)
+    picked = {}
     for k, (level, pieces) in enumerate(lines):
         if not pieces:
             continue
@@ -112,17 +120,19 @@ def label_isotherms(ax, contours, field, avoid=(), outline=None):
             pick = np.unique((np.linspace(0.1, 0.9, 41) * (len(q) - 1)).round().astype(int))
             cand.append(q[pick])
             central.append(1 - np.abs(2 * pick / max(len(q) - 1, 1) - 1))
-        cand = np.concatenate(cand)
-        room = np.full(len(cand), np.inf)
-        for j, tree in enumerate(trees):
-            if j != k and tree is not None:
-                room = np.minimum(room, tree.query(cand)[0])
-        radius = max(0.62 * len(text(level)) * ISOTHERM_LABEL_SIZE * per_pt / 2 + clear,
-                     label_half_diagonal(text(level)) * per_pt)
-        off_edge = (np.full(len(cand), np.inf) if edge_tree is None
-                    else edge_tree.query(cand)[0])
-        keep = off_edge >= radius
-        candidates[k] = (cand[keep], np.concatenate(central)[keep], room[keep], radius)
+        picked[k] = (np.concatenate(cand), np.concatenate(central))
+    candidates = {}
+    if picked:
+        every = np.concatenate([c for c, _ in picked.values()])
+        level_of = np.concatenate([np.full(len(c), k) for k, (c, _) in picked.items()])
+        # room: to the nearest point of another isotherm; off_edge: to the outline
+        room_all = near.distance(every, level_of)
+        edge_all = np.full(len(every), np.inf) if edge is None else edge.distance(every)
+        for k, (cand, central) in picked.items():
+            mine = level_of == k
+            room, off_edge, radius = room_all[mine], edge_all[mine], radii[k]
+            keep = off_edge >= radius
+            candidates[k] = (cand[keep], central[keep], room[keep], radius)
     discs = []                                    # (x, y, radius) of placed labels
     boxes = [(b.x0, b.y0, b.x1, b.y1) for b in avoid]
     places = {}
@@ -178,10 +188,63 @@ def label_half_diagonal(text: str) -> float:
     return 0.5 * math.hypot(width + pad, 1.2 * size + pad) + 0.5
 
 
-def _outline_tree(ax, outline, box):
-    """The outline segments as points at most a pixel apart [display], in a
-    k-d tree, or None; only segments that reach into the plot's box count."""
-    from scipy.spatial import cKDTree
+class PointsNear:
+    """Points in the plane, for the distance from others to the nearest of them
+    within ``reach``: each point is filed under the square cell of side
+    ``reach`` it lies in, so a query looks at the 3 × 3 cells around it only
+    (every point nearer than ``reach`` is there). Costs what a k-d tree
+    would here, without loading one.
+
+    Parameters
+    ----------
+    points : ndarray, shape (N, 2)
+    reach : float
+        Distances of at least this are reported as ``reach``; same unit.
+    labels : ndarray, shape (N,), optional
+        A label per point (an isotherm's index), for :meth:`distance`'s ``exclude``.
+    """
+
+    def __init__(self, points, reach: float, labels=None):
+        self.reach = float(reach)
+        cells = np.floor(np.asarray(points, float) / self.reach).astype(np.int64)
+        self.origin = cells.min(axis=0) - 1
+        cells -= self.origin
+        self.rows = int(cells[:, 1].max()) + 2
+        keys = cells[:, 0] * self.rows + cells[:, 1]
+        order = np.argsort(keys, kind="stable")
+        self.keys, self.points = keys[order], np.asarray(points, float)[order]
+        self.labels = None if labels is None else np.asarray(labels)[order]
+
+    def distance(self, queries, exclude=None) -> np.ndarray:
+        """Distance from each of ``queries`` (shape (M, 2)) to the nearest point,
+        or ``reach`` where none is nearer; with ``exclude`` (one label per
+        query), points of the query's own label do not count."""
+        queries = np.asarray(queries, float)
+        out = np.full(len(queries), self.reach)
+        if not len(queries):
+            return out
+        cells = np.floor(queries / self.reach).astype(np.int64) - self.origin
+        for dx in (-1, 0, 1):
+            for dy in (-1, 0, 1):
+                cx, cy = cells[:, 0] + dx, cells[:, 1] + dy
+                valid = (cx >= 0) & (cy >= 0) & (cy < self.rows)
+                keys = np.where(valid, cx * self.rows + cy, -1)
+                start = np.searchsorted(self.keys, keys, "left")
+                count = np.where(valid, np.searchsorted(self.keys, keys, "right") - start, 0)
+                if not count.any():
+                    continue
+                query = np.repeat(np.arange(len(queries)), count)
+                at = np.repeat(start - np.cumsum(count) + count, count) + np.arange(count.sum())
+                d = np.hypot(*(self.points[at] - queries[query]).T)
+                if exclude is not None:
+                    d[self.labels[at] == np.asarray(exclude)[query]] = np.inf
+                np.minimum.at(out, query, d)
+        return out
+
+
+def _outline_points(ax, outline, box):
+    """The outline segments as points at most a pixel apart [display], or
+    None; only segments that reach into the plot's box count."""
     if outline is None or not len(outline):
         return None
     ends = ax.transData.transform(np.asarray(outline, float).reshape(-1, 2)).reshape(-1, 2, 2)
@@ -196,7 +259,7 @@ def _outline_tree(ax, outline, box):
     segment = np.repeat(np.arange(len(ends)), count + 1)
     t = (np.arange((count + 1).sum()) - np.repeat(np.cumsum(count + 1) - count - 1, count + 1))
     t = t / count[segment]
-    return cKDTree(ends[segment, 0] + step[segment] * t[:, None])
+    return ends[segment, 0] + step[segment] * t[:, None]
 
 
 def upright(degrees: float) -> float:
