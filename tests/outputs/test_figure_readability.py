@@ -38,11 +38,14 @@ def _pixels(fig):
 
 def test_upright_turns_every_direction_to_a_readable_one():
     # a line direction and its reverse are the same line: 180° apart
-    for degrees in range(-720, 721, 5):
+    for degrees in np.arange(-720, 721, 0.5):
         r = isotherms.upright(degrees)
         assert -90 < r <= 90
-        assert (r - degrees) % 180 == pytest.approx(0) or \
-            (r - degrees) % 180 == pytest.approx(180)
+        off = (r - degrees) % 180
+        if abs(r) < 90 - isotherms.VERTICAL_SNAP:
+            assert off == pytest.approx(0, abs=1e-9) or off == pytest.approx(180)
+        else:           # near vertical: set vertical, read from bottom to top
+            assert r == 90 and min(off, 180 - off) <= isotherms.VERTICAL_SNAP
 
 
 def test_isotherm_labels_are_upright_in_the_whole_and_the_close_view(demo):
@@ -54,6 +57,8 @@ def test_isotherm_labels_are_upright_in_the_whole_and_the_close_view(demo):
             for text in labels:
                 turn = (text.get_rotation() + 180.0) % 360.0 - 180.0
                 assert -90.0 <= turn <= 90.0, (name, text.get_text(), text.get_rotation())
+                # near-vertical labels all read one way, bottom to top
+                assert turn > -90.0 + isotherms.VERTICAL_SNAP, (name, text.get_text(), turn)
         finally:
             figures.plt.close(fig)
 

@@ -262,16 +262,25 @@ def _outline_points(ax, outline, box):
     return ends[segment, 0] + step[segment] * t[:, None]
 
 
+#: A label within this many degrees of vertical is set vertical, reading from
+#: bottom to top as the y-axis label does, so near-vertical labels of one
+#: figure read the same way (a "6" read top down beside a "4" read bottom up
+#: is what the eye takes for a "9").
+VERTICAL_SNAP = 5.0
+
+
 def upright(degrees: float) -> float:
     """The same line direction read upright: a text angle in (−90°, 90°].
 
     A label turned along its isotherm takes the line's direction, which may
     point left or down; turned by half a turn it lies along the same line and
     reads from left to right (a vertical one from bottom to top), so a "6" is
-    never read as a "9".
+    never read as a "9". Within :data:`VERTICAL_SNAP` of vertical, the label
+    is set at 90°, reading bottom to top.
     """
     r = float(degrees) % 180.0
-    return r - 180.0 if r > 90.0 else r
+    r = r - 180.0 if r > 90.0 else r
+    return 90.0 if abs(r) >= 90.0 - VERTICAL_SNAP else r
 
 
 def _densify(points, spacing):
