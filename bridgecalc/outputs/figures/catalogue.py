@@ -118,10 +118,13 @@ def heat_flux(result):
 
 def padded_extent(result):
     """Plot limits [length_unit]: the section's bounding box and a 3 % margin."""
-    xy = result.mesh.nodes / result.model.metres_per_unit
-    lo, hi = xy.min(axis=0), xy.max(axis=0)
-    pad = 0.03 * float((hi - lo).max())
-    return lo - pad, hi + pad
+    def compute():
+        xy, _ = section_points(result)
+        lo, hi = xy.min(axis=0), xy.max(axis=0)
+        pad = 0.03 * float((hi - lo).max())
+        return lo - pad, hi + pad
+    lo, hi = kept(result, "padded_extent", compute)
+    return lo.copy(), hi.copy()
 
 
 #: A close view is drawn when its window's longer side is at most this share of
