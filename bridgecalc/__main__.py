@@ -1,7 +1,5 @@
 """``python -m bridgecalc``: the same as the ``bridgecalc`` command."""
 
-import sys
+from .cli import console
 
-from .cli import main
-
-sys.exit(main())
+console()

@@ -299,5 +299,30 @@ def main(argv=None) -> int:
         stop.check()                      # the exception was swallowed somewhere
 
 
+def console(argv=None) -> None:
+    """The ``bridgecalc`` command as a process: :func:`main`, then the exit.
+
+    After a run, matplotlib, SciPy and the result's arrays are loaded; the
+    interpreter's orderly shutdown tears them down one by one, some 0.2 to
+    0.4 s after every file is written and closed. When :func:`main` has
+    returned, its output is flushed and nothing else of the process is
+    still going (no other thread, no child process), the process ends at
+    once with :func:`main`'s exit code (``os._exit``); otherwise, and on any
+    exception, it ends the ordinary way.
+    """
+    code = main(argv)
+    processes = sys.modules.get("multiprocessing")
+    try:
+        sys.stdout.flush()
+        sys.stderr.flush()
+    except (OSError, ValueError):                 # a closed or broken stream
+        sys.exit(code)
+    import threading
+    if threading.active_count() == 1 and not (processes and processes.active_children()):
+        import os
+        os._exit(code)
+    sys.exit(code)
+
+
 if __name__ == "__main__":
-    sys.exit(main())
+    console()

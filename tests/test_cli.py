@@ -313,6 +313,18 @@ def test_demo_writes_report(tmp_path, monkeypatch, capsys):
     assert out.count(str(report)) == 1          # where the report is, said once
 
 
+def test_the_process_ends_at_once_with_its_output_whole(geometries, tmp_path, capsys):
+    """``python -m bridgecalc`` ends without the interpreter's slow teardown
+    (cli.console): what it printed to a pipe is all there, and its exit code
+    is main's; the same text as main() prints in this process."""
+    done = subprocess.run([sys.executable, "-m", "bridgecalc", "parameters",
+                           str(geometries / "balcony.py")], cwd=tmp_path,
+                          capture_output=True, text=True)
+    assert main(["parameters", str(geometries / "balcony.py")]) == 0
+    assert done.returncode == 0 and done.stdout == capsys.readouterr().out
+    assert done.stdout.count("\n") == 9        # the header and the 7 parameters
+
+
 def test_python_dash_m(tmp_path):
     done = subprocess.run([sys.executable, "-m", "bridgecalc", "run", "nothing.toml"],
                           cwd=tmp_path, capture_output=True, text=True)
