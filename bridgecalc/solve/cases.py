@@ -149,8 +149,8 @@ def solve_cases(model: Model, mesh, element: str = "P1",
     heat_r = tuple(s.resistance for s in model.surfaces)
     surface_r = tuple(s.resistance_for_surface_temperature for s in model.surfaces)
     guesses = _guesses(mesh, element, coarser)
-    heat = _solve_set(model, problem, heat_r, guesses and guesses[0])
-    surface = heat if surface_r == heat_r else _solve_set(model, problem, surface_r,
+    heat = solve_set(model, problem, heat_r, guesses and guesses[0])
+    surface = heat if surface_r == heat_r else solve_set(model, problem, surface_r,
                                                           guesses and guesses[1])
     return UnitCases(model, problem, heat, surface)
 
@@ -168,7 +168,7 @@ def _guesses(mesh, element, coarser):
     return interpolated(coarser.heat), interpolated(coarser.surface)
 
 
-def _solve_set(model: Model, problem: ConductionProblem, resistances,
+def solve_set(model: Model, problem: ConductionProblem, resistances,
                guesses=None) -> CaseSet:
     """The unit cases (and the source case) of one resistance set.
 

@@ -54,12 +54,17 @@ class Extrapolation:
         Observed order per mesh size h (p = 2r, with Q − Q∞ ∝ N^(−r)).
     fitted : bool
         Whether a regular (monotone, plausible-order) fit was possible.
+    guaranteed : bool
+        ``error_estimate`` is a guaranteed bound, from an interval that holds
+        the exact value (:mod:`bridgecalc.study.bounds`), and ``value`` lies
+        in that interval.
     """
 
     value: float
     error_estimate: float
     order: float | None
     fitted: bool
+    guaranteed: bool = False
 
 
 def _rate_equation(r, n1, n2, n3):

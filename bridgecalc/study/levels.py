@@ -149,7 +149,7 @@ class ConvergenceStudy:
     pair_psi : dict of (str, str) to Extrapolation
         Ψ_ij of the pairs that flanking elements name [W/(m·K)].
     theta_si_min : Extrapolation or None
-        θsi,min [°C]; reported, not a stopping criterion.
+        θsi,min [°C], Richardson-extrapolated over the levels (reported).
     coupling_coefficient_bounds, psi_bounds : Interval or None
         Guaranteed [lower, upper] of the two-temperature L2D and Ψ on the
         finest mesh [W/(m·K)] (:mod:`bridgecalc.study.bounds`).
@@ -157,6 +157,14 @@ class ConvergenceStudy:
         The same of every L_ij and of each Ψ_ij with flanking elements.
     bounds_note : str
         Why there are no bounds, when there are none.
+    richardson : dict
+        When the bounds give the errors: the Richardson extrapolations they
+        replaced, keyed ``"coupling_coefficient"``, ``"psi"``,
+        ``("coupling", pair)`` and ``("psi", pair)``.
+    theta_si_min_check : (float, float) or None
+        θsi,min of the quadratic field on the finest mesh [°C] and the
+        estimated error of the reported (finest linear) θsi,min [K]
+        (:func:`bridgecalc.study.convergence._theta_check`).
     """
 
     method: str
@@ -177,6 +185,14 @@ class ConvergenceStudy:
     couplings_bounds: dict = field(default_factory=dict)
     pair_psi_bounds: dict = field(default_factory=dict)
     bounds_note: str = ""
+    richardson: dict = field(default_factory=dict)
+    theta_si_min_check: tuple | None = None
+
+    @property
+    def guaranteed(self) -> bool:
+        """Whether the errors of the controlled values are guaranteed bounds."""
+        controlled = self.controlled()
+        return bool(controlled) and all(x.guaranteed for _, _, x, _ in controlled)
 
     @property
     def psi_extrapolated(self):
@@ -275,9 +291,18 @@ class ConvergenceStudy:
             if pair in self.pair_psi:
                 entry["psi_extrapolated"] = self.pair_psi[pair].value
             out["coupling_coefficients"].append(entry)
+        out["error_estimates_guaranteed"] = self.guaranteed
+        if self.richardson:
+            out["richardson"] = self._richardson_dict()
         if self.theta_si_min is not None:
             out["theta_si_min_extrapolated"] = self.theta_si_min.value
             out["theta_si_min_error_estimate"] = _finite(self.theta_si_min.error_estimate)
+        if self.theta_si_min_check is not None:
+            out["theta_si_min_quadratic"] = self.theta_si_min_check[0]
+            out["theta_si_min_error_estimate"] = self.theta_si_min_check[1]
+            out["theta_si_min_error_basis"] = (
+                "four times the difference between the finest mesh's linear and quadratic "
+                "fields: an estimate, not a bound")
         if self.couplings_bounds:
             if self.coupling_coefficient_bounds is not None:
                 out["coupling_coefficient_bounds"] = self.coupling_coefficient_bounds.to_list()
@@ -291,6 +316,20 @@ class ConvergenceStudy:
                 out["coupling_coefficients_bounds"].append(entry)
         elif self.bounds_note:
             out["bounds_unavailable"] = self.bounds_note
+        return out
+
+    def _richardson_dict(self) -> dict:
+        """The Richardson values the guaranteed errors replaced, for results.json."""
+        out: dict = {"coupling_coefficients": []}
+        for key in ("coupling_coefficient", "psi"):
+            if key in self.richardson:
+                x = self.richardson[key]
+                out[key] = {"extrapolated": x.value, "error_estimate": _finite(x.error_estimate)}
+        for key, x in self.richardson.items():
+            if isinstance(key, tuple):
+                out["coupling_coefficients"].append(
+                    {"between": list(key[1]), "what": key[0], "extrapolated": x.value,
+                     "error_estimate": _finite(x.error_estimate)})
         return out
 
     def bounds_lines(self) -> list[str]:
@@ -321,13 +360,20 @@ class ConvergenceStudy:
         lines = [f"convergence: {self.method} refinement, {len(self.levels)} meshes, "
                  f"{self.levels[-1].nodes if self.levels else 0} nodes on the finest"]
         order = sorted(rel, key=lambda k: (k.startswith("coupling_coefficient"), k))
+        what = ("relative error at most (guaranteed by the bounds)" if self.guaranteed
+                else "estimated relative error")
         for key in order:
             if math.isfinite(rel[key]):
-                lines.append(f"  estimated relative error of {self.label(key)}: "
+                lines.append(f"  {what} of {self.label(key)}: "
                              f"{rel[key]:.2e} (target {self.tolerance:.1e})")
         lines.extend("  " + line for line in self.bounds_lines())
         t = self.theta_si_min
-        if t is not None and math.isfinite(t.error_estimate):
+        if self.theta_si_min_check is not None:
+            theta_1 = self.levels[-1].theta_si_min
+            lines.append(f"  θsi,min {theta_1:.3f} °C, estimated error "
+                         f"{self.theta_si_min_check[1]:.1e} K (four times its difference to "
+                         "quadratic elements on the same mesh: an estimate, not a bound)")
+        elif t is not None and math.isfinite(t.error_estimate):
             lines.append(f"  θsi,min {t.value:.3f} °C, estimated error {t.error_estimate:.1e} K "
                          "(an estimate from the mesh sequence, not a bound)")
         if self.iso_doubling_change is not None:

@@ -440,10 +440,18 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
         if convergence.get("psi_extrapolated") is not None:
             error = convergence.get("psi_error_estimate")
             error = None if error is None else float(f"{error:.2g}")     # two significant digits
+            guaranteed = convergence.get("error_estimates_guaranteed")
             lines.append(f"Ψ extrapolated to a zero mesh size: "
                          f"{_n(convergence['psi_extrapolated'])} W/(m·K)"
-                         + (f" ± {_g(error)} W/(m·K) (estimate)"
+                         + ((f" ± {_g(error)} W/(m·K) (guaranteed: the exact Ψ of the model "
+                             "as drawn lies within)" if guaranteed else
+                             f" ± {_g(error)} W/(m·K) (estimate)")
                             if error is not None else "") + ".")
+        check = convergence.get("theta_si_min_error_estimate")
+        if check is not None and convergence.get("theta_si_min_quadratic") is not None:
+            lines.append(f"θsi,min: estimated error {_g(float(f'{check:.2g}'))} K (four "
+                         "times the difference to quadratic elements on the finest mesh: "
+                         "an estimate, not a bound).")
         if change is not None:
             # stored as a fraction of the heat flow
             lines.append(f"Change of the heat flow on doubling the subdivisions: "

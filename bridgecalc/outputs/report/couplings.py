@@ -45,12 +45,16 @@ def coupling_table(data: dict) -> Table:
              "–" if e["error"] is None else g_text(float(f"{e['error']:.2g}")),
              n_text(e["ul"]), n_text(e["psi"]), ", ".join(e["flanking"]) or "none"]
             for e in coupling_entries(data)]
-    return Table(["environments i–j", "L_ij [W/(m·K)]", "± estimate", "Σ U·l [W/(m·K)]",
+    guaranteed = bool((data.get("convergence") or {}).get("error_estimates_guaranteed"))
+    return Table(["environments i–j", "L_ij [W/(m·K)]",
+                  "± at most" if guaranteed else "± estimate", "Σ U·l [W/(m·K)]",
                   "Ψ_ij [W/(m·K)]", "flanking elements"], rows,
                  "Coupling coefficients (ISO 10211): L_ij is the heat flow from i to j per "
                  "kelvin of θi − θj, from one solution per environment at 1 °C with the others "
                  "at 0 °C; Ψ_ij = L_ij − Σ U·l over the flanking elements that name the pair. "
-                 "The estimate is the refinement study's (an estimate, not a bound).",
+                 + ("The error is guaranteed by the bounds below (the exact value of the model "
+                    "as drawn lies within it)." if guaranteed else
+                    "The estimate is the refinement study's (an estimate, not a bound)."),
                  (1, 2, 3, 4), (2.2, 1.3, 1.0, 1.3, 1.3, 3.0))
 
 
