@@ -47,8 +47,8 @@ the lower one from the best quadratic stream function, σ = rot s
 (:mod:`bridgecalc.solve.dual`). The gap then falls like the squared energy
 error of P2 (h⁴ where the field is smooth), faster than the error of the
 linear fields the study extrapolates, so the interval is about as narrow as
-the true error of the extrapolated value, not tens of times wider (measured on
-the shipped junctions: docs/performance.md). Where a hole of the section
+the true error of the extrapolated value (0.12 to 2.3 times it on the shipped
+junctions), not tens of times wider (docs/performance.md). Where a hole of the section
 carries a surface (a net heat flow around it would make s many-valued), σ
 comes instead from the linear field by vertex-patch equilibration in RT0
 (:mod:`bridgecalc.solve.equilibration`; Braess & Schöberl, *Math. Comp.*

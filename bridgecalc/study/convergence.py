@@ -41,11 +41,12 @@ controlled value the distance to its interval's far end as its error: a
 bound, not an estimate (a Richardson value outside its interval is replaced
 by the interval's middle; the Richardson figures stay in
 ``study.richardson``). The intervals are about as narrow as the true error of
-the Richardson value (measured on the shipped junctions: 0.7–1.3 times it at
+the Richardson value (measured on the shipped junctions: 0.12–2.3 times it at
 the default tolerance), so the study stops several levels earlier than on
-the Richardson estimate, which ran 10 to 80 times above the true error, and
-the default run is 2–4 times faster than before (benchmarks/bench_bounds.py;
-docs/performance.md). With a heat source the Richardson estimate decides.
+the Richardson estimate, which ran 8 to 104 times above the true error, and
+a default run takes 0.36–0.90 of the time it took before
+(benchmarks/bench_bounds.py; docs/performance.md). With a heat source the
+Richardson estimate decides.
 
 ``method="interval"`` computes the intervals from the second level, refines
 the triangles that carry half of the bound gap of the quantity whose
