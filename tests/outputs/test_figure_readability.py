@@ -181,6 +181,30 @@ def test_the_profiles_distance_axis_is_marked_on_the_section(demo):
         figures.plt.close(fig)
 
 
+def test_distances_keep_clear_of_the_coldest_points_label(demo):
+    """No distance along the interior surface is printed under the θsi,min
+    label, in the whole view or the close view (the demo's "1000" fell under
+    it, at the wall's face just above the slab), nor over an isotherm label."""
+    fig = figures.build_figure("temperature", demo)
+    try:
+        fig.canvas.draw()
+        renderer = fig.canvas.get_renderer()
+        checked = 0
+        for ax in fig.axes:
+            labels = [t for t in ax.texts if t.get_gid() == "theta-si-min-label"]
+            marks = [t for t in ax.texts if t.get_gid() == "profile-distance"]
+            labels += [t for c in ax.collections for t in getattr(c, "labelTexts", [])]
+            for label in labels:
+                box = label.get_window_extent(renderer)
+                for mark in marks:
+                    assert not mark.get_window_extent(renderer).overlaps(box), \
+                        (mark.get_text(), label.get_text())
+                    checked += 1
+        assert checked >= 4
+    finally:
+        figures.plt.close(fig)
+
+
 def _label_boxes(fig):
     """Each isotherm label's box as drawn: a (turned) quadrilateral [display px]."""
     fig.canvas.draw()

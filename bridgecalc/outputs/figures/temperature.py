@@ -79,7 +79,11 @@ def temperature_figure(result, isotherm_step=None, detail=False):
                 label_isotherms(axes, iso, filled, avoid=[] if marker is None else [marker],
                                 outline=xy[mesh.boundary_edges])
             draw_critical_isotherm(axes, triangulation, theta, result)
-            _mark_distances(axes, result, shown)
+            renderer = fig.canvas.get_renderer()
+            labels = [t.get_window_extent(renderer) for c in axes.collections
+                      for t in getattr(c, "labelTexts", [])]
+            _mark_distances(axes, result, shown,
+                            avoid=labels + ([] if marker is None else [marker]))
             if not is_close:
                 outline_detail(axes, result)
         colour_bar(fig, ax, filled, aspect, "temperature θ [°C]",
@@ -167,11 +171,21 @@ def _mark_minimum(ax, result, extent, grid):
     return box
 
 
-def _mark_distances(ax, result, extent) -> None:
+#: Where a distance's text goes from its tick [points], and how it is aligned:
+#: up and left first, then the other corners, the first that keeps clear of
+#: the θsi,min and isotherm labels.
+DISTANCE_PLACES = (((-3, 3), "right", "bottom"), ((3, 3), "left", "bottom"),
+                   ((-3, -3), "right", "top"), ((3, -3), "left", "top"))
+
+
+def _mark_distances(ax, result, extent, avoid=()) -> None:
     """The surface-temperature figure's distance axis, marked along the interior
     surface: a tick and its distance [length_unit] at round steps (about six
     across the view), "s = 0" where each run starts. A run ends at a cut-off
-    plane; the next starts after the profile's gap, as on its axis."""
+    plane; the next starts after the profile's gap, as on its axis. A text that
+    would lie under one of the ``avoid`` boxes [display units] (the θsi,min
+    label, the isotherm labels) goes to another corner of its tick
+    (:data:`DISTANCE_PLACES`)."""
     from ...results import interior_surface_profiles
     from .layout import nice_step
     from .profile import profile_offsets
@@ -192,11 +206,31 @@ def _mark_distances(ax, result, extent) -> None:
             ax.plot([x], [y], marker="|" if abs(p.points[-1, 1] - p.points[0, 1]) <
                     abs(p.points[-1, 0] - p.points[0, 0]) else "_", ms=5, mew=0.9,
                     color=INK, zorder=6, gid="profile-distance-tick")
-            ax.annotate(("s = " if value == s[0] else "") + f"{value:g}", (x, y),
-                        xytext=(-3, 3), textcoords="offset points", ha="right", va="bottom",
-                        fontsize=5.5, color=INK, zorder=6, gid="profile-distance",
-                        bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none",
-                                  alpha=0.8))
+            text = ax.annotate(("s = " if value == s[0] else "") + f"{value:g}", (x, y),
+                               xytext=(-3, 3), textcoords="offset points", ha="right",
+                               va="bottom", fontsize=5.5, color=INK, zorder=6,
+                               gid="profile-distance",
+                               bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none",
+                                         alpha=0.8))
+            if avoid:
+                _clear_of(text, avoid)
+
+
+def _clear_of(text, avoid) -> None:
+    """Put ``text`` at the first of :data:`DISTANCE_PLACES` where its box
+    overlaps none of ``avoid`` (the first place when none is clear)."""
+    renderer = text.get_figure().canvas.get_renderer()
+    for offset, ha, va in DISTANCE_PLACES:
+        text.xyann = offset
+        text.set_horizontalalignment(ha)
+        text.set_verticalalignment(va)
+        box = text.get_window_extent(renderer)
+        if not any(box.overlaps(other) for other in avoid):
+            return
+    offset, ha, va = DISTANCE_PLACES[0]
+    text.xyann = offset
+    text.set_horizontalalignment(ha)
+    text.set_verticalalignment(va)
 
 
 def environments_text(model) -> str:
