@@ -97,6 +97,14 @@ def oriented_outline(mesh: Mesh, third=None) -> np.ndarray:
     return np.where((left > 0)[:, None], edges, edges[:, ::-1])
 
 
+def edge_resistances(mesh: Mesh, resistances) -> np.ndarray:
+    """R of each outline edge (``mesh.boundary_edges`` order) [m²·K/W]: ∞ where
+    adiabatic (no surface, or R None or ∞), 0 where held (R ≤ 1e-9)."""
+    r = np.array([np.inf if x is None else 0.0 if holds_temperature(float(x)) else float(x)
+                  for x in resistances] + [np.inf])
+    return r[mesh.boundary_surface]          # index -1 (no surface) takes the last: ∞
+
+
 def holes_with_surfaces(mesh: Mesh, adiabatic_edge: np.ndarray) -> int:
     """How many holes of the section have a non-adiabatic edge on their
     boundary, or -1 when the outline's loops cannot be told apart [-].
@@ -153,10 +161,7 @@ class ComplementaryProblem:
         basis = problem.basis
         self.problem = problem
         self.n = n = basis.N
-        r = np.array([np.inf if x is None else 0.0 if holds_temperature(float(x)) else float(x)
-                      for x in resistances])
-        surface = mesh.boundary_surface
-        self.r_edge = np.where(surface >= 0, r[np.maximum(surface, 0)], np.inf)
+        self.r_edge = edge_resistances(mesh, resistances)
         adiabatic = ~np.isfinite(self.r_edge)
         self.edge_triangle, third = outline_triangles(mesh)
         edges = oriented_outline(mesh, third)

@@ -69,7 +69,7 @@ import numpy as np
 
 from ..model.types import holds_temperature
 from ..solve.cases import UnitCases, material_arrays, solve_set
-from ..solve.dual import ComplementaryProblem, holes_with_surfaces
+from ..solve.dual import ComplementaryProblem, edge_resistances, holes_with_surfaces
 from ..solve.equilibration import Equilibrator
 from ..solve.problem import ConductionProblem
 from .levels import pair_name, pairs_of
@@ -174,9 +174,7 @@ def unavailable_reason(cases: UnitCases) -> str | None:
 
 def _holes_with_surfaces(cases: UnitCases) -> int:
     mesh = cases.problem.mesh
-    r = [math.inf if x is None else x for x in cases.heat.resistances]
-    surface = mesh.boundary_surface
-    adiabatic = np.array([j < 0 or not math.isfinite(r[j]) for j in surface], dtype=bool)
+    adiabatic = ~np.isfinite(edge_resistances(mesh, cases.heat.resistances))
     return holes_with_surfaces(mesh, adiabatic)
 
 
