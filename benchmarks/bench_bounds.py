@@ -48,7 +48,7 @@ from bridgecalc.api import load, run
 from bridgecalc.mesh import refine
 from bridgecalc.solve.cases import solve_cases
 from bridgecalc.study import bounds, convergence, indicators
-from bridgecalc.study.levels import interior_side
+from bridgecalc.study.levels import interior_side, interior_surfaces
 
 ROOT = Path(__file__).resolve().parents[1]
 JUNCTIONS = ("balcony", "eaves", "ground_floor", "parapet", "slab_edge", "steel_beam",
@@ -82,7 +82,9 @@ def truth(result, times):
         found = bounds.coupling_bounds(cases, side, gaps=k < times)
         if k < times:
             mesh = refine(mesh, indicators.mark(found.indicators([tuple(sorted(side[2]))])))
-    theta, _ = convergence._theta_check(cases, found.quadratic)
+    theta_1 = cases.surface.field(cases.temperatures).minimum_on(
+        interior_surfaces(model))[0]
+    theta, _ = convergence._theta_check(cases, found.quadratic, theta_1)
     return found.coupling_coefficient, theta, mesh.node_count
 
 

@@ -238,7 +238,7 @@ def converge(model: Model, mesh_options: MeshOptions | None, element: str, toler
         theta_check = None
         if within and iso_ok and found is not None and found.quadratic is not None \
                 and element == "P1":
-            theta_check = _theta_check(cases, found.quadratic)
+            theta_check = _theta_check(cases, found.quadratic, level.theta_si_min)
             within = theta_check[1] <= tolerance * _temperature_span(model)
         if within and iso_ok:
             study.criterion_met = True
@@ -282,10 +282,10 @@ def converge(model: Model, mesh_options: MeshOptions | None, element: str, toler
     study.theta_si_min = extrapolate([lv.nodes for lv in study.levels],
                                      [lv.theta_si_min for lv in study.levels],
                                      ELEMENT_RATE[element], _noise(imbalance))
-    if theta_check is not None:
-        study.theta_si_min_check = theta_check
-    elif found is not None and found.quadratic is not None and element == "P1":
-        study.theta_si_min_check = _theta_check(cases, found.quadratic)
+    if theta_check is None and found is not None and found.quadratic is not None \
+            and element == "P1":
+        theta_check = _theta_check(cases, found.quadratic, study.levels[-1].theta_si_min)
+    study.theta_si_min_check = theta_check
     return StudyOutcome(cases, mesh, study)
 
 
@@ -405,13 +405,12 @@ def _guarantee(study: ConvergenceStudy, found, flanking_ul: dict, noise: float) 
         if study.psi is not None:
             study.richardson["psi"] = study.psi
             study.psi = bounded(study.psi, interval.shifted(flanking_ul[None]), size)
+    size = max(abs(e.upper) for e in found.energies.values())        # L_ij from energies
     for pair, x in list(study.couplings.items()):
         study.richardson[("coupling", pair)] = x
-        size = max(abs(e.upper) for e in found.energies.values())    # L_ij from energies
         study.couplings[pair] = bounded(x, found.couplings[pair], size)
     for pair, x in list(study.pair_psi.items()):
         study.richardson[("psi", pair)] = x
-        size = max(abs(e.upper) for e in found.energies.values())
         study.pair_psi[pair] = bounded(x, found.couplings[pair].shifted(flanking_ul[pair]), size)
 
 
@@ -433,16 +432,15 @@ def _temperature_span(model: Model) -> float:
     return max(temperatures) - min(temperatures)
 
 
-def _theta_check(cases: UnitCases, quadratic) -> tuple[float, float]:
+def _theta_check(cases: UnitCases, quadratic, theta_1: float) -> tuple[float, float]:
     """θsi,min of the quadratic field on the finest mesh [°C] and the
-    estimated error of the linear one [K] (:data:`THETA_SAFETY` times their
-    difference): an estimate, not a bound."""
+    estimated error of the linear one, ``theta_1`` [°C] (:data:`THETA_SAFETY`
+    times their difference [K]): an estimate, not a bound."""
     model = cases.model
     resistances = cases.surface.resistances
     case_set = quadratic.heat if tuple(resistances) == tuple(quadratic.heat.resistances) \
         else solve_set(model, quadratic.problem, resistances)
     theta_2, _ = case_set.field(cases.temperatures).minimum_on(interior_surfaces(model))
-    theta_1 = cases.surface.field(cases.temperatures).minimum_on(interior_surfaces(model))[0]
     return float(theta_2), THETA_SAFETY * abs(float(theta_1) - float(theta_2))
 
 
