@@ -277,7 +277,8 @@ def converge(model: Model, mesh_options: MeshOptions | None, element: str, toler
                 + ("" if iso_ok else "; the ISO 10211 doubling check is not met"))
             break
         mesh = finer
-    found = _attach_bounds(study, cases, side, flanking_ul, found, _noise(imbalance))
+    found = _attach_bounds(study, cases, side, flanking_ul, found, _noise(imbalance),
+                           imbalance[-1])
     # θsi,min's Richardson value, reported beside the quadratic check
     study.theta_si_min = extrapolate([lv.nodes for lv in study.levels],
                                      [lv.theta_si_min for lv in study.levels],
@@ -347,10 +348,17 @@ def _gap_indicators(found, widths: dict, side, model: Model) -> np.ndarray:
 
 
 def _attach_bounds(study: ConvergenceStudy, cases: UnitCases, side, flanking_ul: dict,
-                   found=None, noise: float = 0.0):
+                   found=None, noise: float = 0.0, balance: float = 0.0):
     """The guaranteed intervals of the finest mesh (:mod:`bridgecalc.study.bounds`);
-    ``found``: those already computed on it."""
+    ``found``: those already computed on it. None, with the reason in
+    ``study.bounds_note``, where bounds are unavailable or the mesh's heat-flow
+    imbalance ``balance`` is above :data:`BOUNDS_BALANCE` (the same rule as on
+    every level)."""
     reason = bounds.unavailable_reason(cases)
+    if reason is None and balance > BOUNDS_BALANCE:
+        reason = (f"the heat flows of the finest mesh do not balance (|Σ Φ| / max |Φ| = "
+                  f"{balance:.1e}), so its energies carry round-off no bound can be trusted "
+                  f"past")
     if reason is not None:
         study.bounds_note = reason
         return None
