@@ -7,7 +7,6 @@ circular pipe insulation against the analytic cylinder solution.
 
 import json
 import math
-import textwrap
 
 import ezdxf
 import numpy as np

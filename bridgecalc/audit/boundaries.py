@@ -13,7 +13,7 @@ import numpy as np
 
 from ..model.checker import fmt_point
 from .findings import Finding
-from .layout import Layout, Piece, straight_runs
+from .layout import Layout, Piece
 
 
 def _from_to(a, b) -> str:

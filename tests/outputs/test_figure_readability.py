@@ -113,7 +113,8 @@ def test_the_close_view_frame_is_marked_on_the_whole(demo):
             (near,) = [a for a in fig.axes if a.get_gid() == "close-view"]
             (x0, x1), (y0, y1) = near.get_xlim(), near.get_ylim()
             corners = frames[0].get_xy()
-            assert corners[:, 0].min() == pytest.approx(x0) and corners[:, 1].max() == \
+            assert corners[:, 0].min() == pytest.approx(x0) and corners[:, 0].max() == \
+                pytest.approx(x1) and corners[:, 1].max() == \
                 pytest.approx(y1) and corners[:, 1].min() == pytest.approx(y0)
         finally:
             figures.plt.close(fig)

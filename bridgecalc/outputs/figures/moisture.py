@@ -14,7 +14,7 @@ from ...model.rules import two_temperature_sides
 from ..verdicts import MONTH_NAMES, moisture_of, short_humidity
 from .catalogue import MARGIN_LEFT, MARGIN_TOP, PAGE_WIDTH, PROFILE_BOTTOM, PROFILE_HEIGHT
 from .layout import header
-from .style import ADIABATIC, INK, INTERIOR, MUTED, PAPER, STYLE, VOID, plt
+from .style import ADIABATIC, INTERIOR, MUTED, PAPER, STYLE, VOID, plt
 
 #: Colour of what the climate asks for: the requirement bars and the isotherm.
 REQUIRED = "#b8860b"

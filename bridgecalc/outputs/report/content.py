@@ -17,6 +17,7 @@ from types import MappingProxyType
 from ... import __version__
 from ...assessments import f_rsi_verdict
 from ...results import CAUTION, printed_position
+from ..exports import several_pairs
 from . import couplings, moisture
 from .audit import audit_blocks, audit_texts
 from .bounds import bounds_blocks
@@ -214,7 +215,7 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
     model = result.model
     unit = data["length_unit"]
     hf, st = data["heat_flow_case"], data["surface_temperature_case"]
-    several = couplings.several_pairs(data)
+    several = several_pairs(data)
     system, system_note = stated_dimension_system(model, dimension_system)
     title = data["name"] or "Junction"
     subtitle = (f"Two-dimensional steady conduction to ISO 10211 · bridgecalc {__version__} · "
@@ -281,8 +282,8 @@ def report_content(result, figures: dict | None = None, f_rsi_min: float | None 
                else "the model audit's findings above must be checked first."), "fail"))
     else:
         blocks.append(Para(
-            f"No fRsi criterion was given for this run (bridgecalc run --f-rsi-min), so no "
-            f"pass or fail against a fixed criterion is stated"
+            "No fRsi criterion was given for this run (bridgecalc run --f-rsi-min), so no "
+            "pass or fail against a fixed criterion is stated"
             + (" (the ISO 13788 check below states its own against the climate)"
                if data.get("moisture") else "") + f". {COMMON_PRACTICE}", "note"))
     if minimum_at_cut_off(result):

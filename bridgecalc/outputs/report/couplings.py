@@ -8,7 +8,7 @@ Read from results.json's content; nothing here recomputes physics.
 
 from __future__ import annotations
 
-from ..exports import coupling_entries, several_pairs
+from ..exports import coupling_entries
 from .blocks import KeyFigures, Para, Table
 from .numbers import g_text, n_text
 

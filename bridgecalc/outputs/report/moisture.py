@@ -6,7 +6,7 @@ Read from results.json's ``moisture``; nothing here recomputes physics.
 
 from __future__ import annotations
 
-from ..verdicts import MOISTURE_CAUTION, MONTH_NAMES, short_humidity
+from ..verdicts import MOISTURE_CAUTION, MONTH_NAMES
 from .blocks import Heading, KeyFigures, Para, Table
 from .numbers import n_text
 
