@@ -269,3 +269,27 @@ def test_the_separation_check_sees_overlaps():
     assert _separated(square, square + 3)
     assert not _separated(square, np.array([[-1, 1], [3, 1]], float))     # a segment across
     assert _separated(square, np.array([[-1, 3], [3, 2.5]], float))       # one above it
+
+
+def test_label_spacing_distances_match_a_kd_tree():
+    """The grid that keeps labels apart (isotherms.PointsNear) finds the same
+    nearest distances, capped at its reach, as SciPy's k-d tree (an
+    independent nearest-neighbour search), with and without excluding the
+    query's own isotherm."""
+    from scipy.spatial import cKDTree
+    rng = np.random.default_rng(7)
+    points = rng.random((3000, 2)) * 100
+    labels = rng.integers(0, 4, len(points))
+    queries = rng.random((800, 2)) * 120 - 10        # some beyond the points' box
+    own = rng.integers(0, 4, len(queries))
+    near = isotherms.PointsNear(points, 4.0, labels)
+    found = near.distance(queries)
+    expected = np.minimum(cKDTree(points).query(queries)[0], 4.0)
+    assert np.allclose(found, expected, rtol=0, atol=1e-12)
+    found = near.distance(queries, exclude=own)
+    for label in range(4):
+        tree = cKDTree(points[labels != label])
+        mine = own == label
+        assert np.allclose(found[mine], np.minimum(tree.query(queries[mine])[0], 4.0),
+                           rtol=0, atol=1e-12)
+    assert (found < 4.0).any() and (found == 4.0).any()     # both cases occur
