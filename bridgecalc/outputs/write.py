@@ -13,7 +13,7 @@ Files of one run (:func:`write_outputs`)::
 All of them are written into a staging folder that is moved into place at
 the end (:func:`bridgecalc.outputs.folder.staged_folder`). Each figure is
 drawn once, as its PNG; report.html embeds those bytes and report.pdf places
-the same compressed pixels (:func:`.report.pdf.stamp_figures`), so neither
+the same compressed pixels (:func:`.report.pdf.place_figures`), so neither
 report draws or encodes a figure again. Where the platform can fork, the
 figures (most of the time of the outputs) are drawn in two worker processes,
 and a helper process writes the other files meanwhile: it is forked first,
@@ -189,8 +189,10 @@ class OtherFilesJob:
     """
 
     def __init__(self, result, staging, *, f_rsi_min=None, stamp=None, data=None,
-                 dimension_system=None):
+                 dimension_system=None, vector=False):
         self.result = result
+        self.vector = vector
+        self.pages = None
         self.staging = Path(staging)
         self.f_rsi_min = f_rsi_min
         self.stamp = stamp
@@ -214,24 +216,23 @@ class OtherFilesJob:
                                  exports.COUPLING_COLUMNS), encoding="utf-8")
         if self.stamp is None:
             self.stamp = stamps.current_stamp()
-        report_pdf.prepare()
+        report_pdf.prepare(self.vector)
         return self.stamp
 
     def lay_out_report(self, figure_pngs, figure_sizes, files):
-        """The report's content, and report.pdf laid out with room for the figures.
-
-        Returns the content and where the figures go (for
-        :meth:`place_report_figures`).
-        """
+        """The report's content, returned; report.pdf laid out with room for
+        the figures, kept here for :meth:`place_report_figures`."""
         content = report_content(
             self.result, figure_pngs, self.f_rsi_min, self.stamp or None,
             self.dimension_system, files, self.data, figure_sizes)
-        return content, report_pdf.lay_out(content, self.staging / REPORT_PDF_FILE)
+        self.pages = report_pdf.lay_out(content, self.staging / REPORT_PDF_FILE, self.vector)
+        return content
 
-    def place_report_figures(self, placed, vector=False) -> None:
-        """The figures put into report.pdf where it left room: their PNG pixels
-        as they are, or with ``vector`` their own PDF pages."""
-        report_pdf.stamp_figures(self.staging / REPORT_PDF_FILE, placed, vector)
+    def place_report_figures(self) -> None:
+        """The figures put into report.pdf where it left room, and the file
+        written whole: their PNG pixels as they are, or with vector figures
+        their own PDF pages (:func:`.report.pdf.place_figures`)."""
+        report_pdf.place_figures(self.pages)
 
 
 # -- the whole set ------------------------------------------------------------------
@@ -280,7 +281,7 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
         data = result.to_dict()
         (staging / RESULTS_FILE).write_text(results_json(result, data), encoding="utf-8")
         job = OtherFilesJob(result, staging, f_rsi_min=f_rsi_min, stamp=stamp, data=data,
-                            dimension_system=dimension_system)
+                            dimension_system=dimension_system, vector=vector_figures)
         with Worker(job, forked=workers > 1 and can_fork()) as helper:
             exports_written = helper.submit("write_exports")
             # the figures' names and sizes need no matplotlib: the helper lays out
@@ -298,8 +299,8 @@ def write_outputs(result, out_dir, *, f_rsi_min=None, isotherm_step=None,
             pages = helper.submit("lay_out_report", pngs, sizes, files)
             draw_figures(result, staging, isotherm_step, f_rsi_min, workers, formats)
             exports_written.result()
-            content, placed = pages.result()
-            figures_in = helper.submit("place_report_figures", placed, vector_figures)
+            content = pages.result()
+            figures_in = helper.submit("place_report_figures")
             (staging / REPORT_FILE).write_text(render_html(content), encoding="utf-8")
             figures_in.result()
     return out_dir

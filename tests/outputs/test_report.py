@@ -292,3 +292,32 @@ def test_no_page_of_the_pdf_ends_with_a_lone_heading(written):
                 and "· bridgecalc" not in line]
         if body:
             assert body[-1] not in headings, body[-3:]
+
+
+def test_pdf_figures_are_the_pngs_pixels_placed_in_their_room(demo, written):
+    """report.pdf carries each figure's PNG pixels as they are (no resampling,
+    no re-encoding), decoded here by pypdf, an independent reader of PDF's
+    FlateDecode with PNG predictors (ISO 32000-1, 7.4.4.4); each image fills
+    the width or the height of its room on the page, at the PNG's aspect."""
+    from pypdf import PdfReader
+    from bridgecalc.outputs import figures
+    reader = PdfReader(written / "report.pdf")
+    images = [image for page in reader.pages for image in page.images]
+    names = list(figures.figure_names(demo))
+    assert len(images) == len(names)
+    for name, image in zip(names, images):
+        with Image.open(written / f"{name}.png") as png:
+            expected = np.asarray(png.convert("RGB"))
+        assert np.array_equal(np.asarray(image.image.convert("RGB")), expected), name
+    # the drawing of figure 1: the form on its page, the image scaled in it
+    page = next(p for p in reader.pages if p.images)
+    forms = page["/Resources"]["/XObject"]
+    form = next(forms[k].get_object() for k in sorted(forms) if "BridgecalcFigure" in k)
+    x0, y0, x1, y1 = [float(v) for v in form["/BBox"]]
+    ops = form.get_data().decode("ascii").split()
+    a, d = float(ops[1]), float(ops[4])
+    with Image.open(written / f"{names[0]}.png") as png:
+        width, height = png.size
+    assert a / d == pytest.approx(width / height, rel=1e-4)        # the PNG's aspect
+    assert a == pytest.approx(x1 - x0, abs=1e-3) or d == pytest.approx(y1 - y0, abs=1e-3)
+    assert a <= x1 - x0 + 1e-3 and d <= y1 - y0 + 1e-3

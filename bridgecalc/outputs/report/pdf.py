@@ -67,9 +67,12 @@ def _fonts():
     addMapping(FONT, 1, 1, FONT_BOLD)
 
 
-def prepare() -> None:
-    """Import the PDF libraries and register the fonts ahead of :func:`write_pdf`."""
-    import pypdf  # noqa: F401
+def prepare(vector: bool = False) -> None:
+    """Import the PDF libraries and register the fonts ahead of :func:`write_pdf`
+    (pypdf only with ``vector``: it places vector figure pages; PNG figures go
+    in with ReportLab alone, :func:`place_figures`)."""
+    if vector:
+        import pypdf  # noqa: F401
     import reportlab.platypus  # noqa: F401
     _fonts()
 
@@ -124,7 +127,7 @@ def _linked(text: str, href: str | None) -> str:
     return f'<a href="{escape(href, {chr(34): "&quot;"})}" color="{ACCENT}">{text}</a>'
 
 
-def _flowables(report: Report, width: float, placed: list):
+def _flowables(report: Report, width: float, placed: list, forms: bool = False):
     from reportlab.lib.colors import HexColor
     from reportlab.platypus import (KeepTogether, Paragraph, Spacer,
                                     Table as RLTable, TableStyle)
@@ -207,7 +210,7 @@ def _flowables(report: Report, width: float, placed: list):
             if height > max_height:
                 w, height = width * max_height / height, max_height
             out.append(KeepTogether(([heading] if heading is not None else [])
-                                    + [_Placeholder(block.png, w, height, placed),
+                                    + [_Placeholder(block.png, w, height, placed, forms),
                                        Paragraph(_text(block.caption), s["caption"])]))
             heading = None
         else:
@@ -220,9 +223,16 @@ def _flowables(report: Report, width: float, placed: list):
     return out
 
 
-def _Placeholder(png: Path, width: float, height: float, placed: list):
-    """Space for a figure; records where it lands so the figure (its PNG's pixels,
-    or its own vector PDF page) can be stamped there afterwards."""
+#: The form XObject that draws figure k of a report laid out with its figures
+#: to come (:func:`lay_out`, :func:`place_figures`), and the image in it.
+FIGURE_FORM, FIGURE_IMAGE = "BridgecalcFigure{}", "BridgecalcImage{}"
+
+
+def _Placeholder(png: Path, width: float, height: float, placed: list, forms: bool = False):
+    """Space for a figure; records where it lands so that the figure (its PNG's
+    pixels, or its own vector PDF page) can be put there afterwards. With
+    ``forms``, it draws the form XObject :data:`FIGURE_FORM` there, which
+    :func:`place_figures` defines once the PNG exists."""
     from reportlab.platypus import Flowable
 
     class Placeholder(Flowable):
@@ -232,27 +242,30 @@ def _Placeholder(png: Path, width: float, height: float, placed: list):
 
         def draw(self):
             x, y = self.canv.absolutePosition(0, 0)
+            if forms:
+                # drawn at this flowable's corner; defined, with a box of its
+                # size, before the file is written
+                self.canv.doForm(FIGURE_FORM.format(len(placed)))
             placed.append((self.canv.getPageNumber() - 1, x, y, self.width, self.height,
                            png))
 
     return Placeholder()
 
 
-def png_image(png: Path, writer):
-    """A PNG file as a PDF image XObject added to ``writer``; returns its
-    reference and its size in pixels.
+def png_stream(png: Path) -> tuple[bytes, dict]:
+    """A PNG file as the stream and the entries of a PDF image XObject: the
+    compressed data, and its width, height, colour space, filter and decode
+    parameters [PDF names without the slash; pixels].
 
     An 8-bit RGB or grey PNG without interlacing goes in as it is: its IDAT
     chunks are a zlib stream of scanlines, each with its PNG filter byte,
-    which is what PDF's FlateDecode with the PNG predictors (``/Predictor
+    which is what PDF's FlateDecode with the PNG predictors (``Predictor
     15``) reads (ISO 32000-1, 7.4.4.4). Nothing is decoded or compressed
     again: report.pdf shares the figure's PNG with report.html. Any other
     PNG is decoded by Pillow, laid on white, and compressed.
     """
     import struct
     import zlib
-    from pypdf.generic import (DictionaryObject, EncodedStreamObject,
-                               NameObject, NumberObject)
     data = Path(png).read_bytes()
     chunks, at = [], 8
     while at + 8 <= len(data):
@@ -262,14 +275,12 @@ def png_image(png: Path, writer):
     header = dict(chunks).get(b"IHDR", b"")
     width, height, depth, colour, _, _, interlace = struct.unpack(">IIBBBBB", header)
     colours = {0: 1, 2: 3}.get(colour)
-    image = EncodedStreamObject()
+    entries = {"Width": width, "Height": height, "BitsPerComponent": 8,
+               "Filter": "FlateDecode"}
     if depth == 8 and colours is not None and interlace == 0:
-        image._data = b"".join(body for kind, body in chunks if kind == b"IDAT")
-        image[NameObject("/DecodeParms")] = DictionaryObject({
-            NameObject("/Predictor"): NumberObject(15),
-            NameObject("/Colors"): NumberObject(colours),
-            NameObject("/BitsPerComponent"): NumberObject(8),
-            NameObject("/Columns"): NumberObject(width)})
+        stream = b"".join(body for kind, body in chunks if kind == b"IDAT")
+        entries["DecodeParms"] = {"Predictor": 15, "Colors": colours, "BitsPerComponent": 8,
+                                  "Columns": width}
     else:
         from PIL import Image
         with Image.open(png) as opened:
@@ -277,14 +288,28 @@ def png_image(png: Path, writer):
         flat = Image.new("RGB", rgba.size, "white")
         flat.paste(rgba, mask=rgba.getchannel("A"))
         colours = 3
-        image._data = zlib.compress(flat.tobytes(), 6)
-    image.update({
-        NameObject("/Type"): NameObject("/XObject"), NameObject("/Subtype"): NameObject("/Image"),
-        NameObject("/Width"): NumberObject(width), NameObject("/Height"): NumberObject(height),
-        NameObject("/ColorSpace"): NameObject("/DeviceRGB" if colours == 3 else "/DeviceGray"),
-        NameObject("/BitsPerComponent"): NumberObject(8),
-        NameObject("/Filter"): NameObject("/FlateDecode")})
-    return writer._add_object(image), (width, height)
+        stream = zlib.compress(flat.tobytes(), 6)
+    entries["ColorSpace"] = "DeviceRGB" if colours == 3 else "DeviceGray"
+    return stream, entries
+
+
+def png_image(png: Path, writer):
+    """A PNG file as a PDF image XObject added to pypdf's ``writer``
+    (:func:`png_stream`); returns its reference and its size in pixels."""
+    from pypdf.generic import (DictionaryObject, EncodedStreamObject,
+                               NameObject, NumberObject)
+    stream, entries = png_stream(png)
+
+    def value(v):
+        if isinstance(v, dict):
+            return DictionaryObject({NameObject(f"/{k}"): value(x) for k, x in v.items()})
+        return NumberObject(v) if isinstance(v, int) else NameObject(f"/{v}")
+    image = EncodedStreamObject()
+    image._data = stream
+    image.update({NameObject("/Type"): NameObject("/XObject"),
+                  NameObject("/Subtype"): NameObject("/Image"),
+                  **{NameObject(f"/{k}"): value(v) for k, v in entries.items()}})
+    return writer._add_object(image), (entries["Width"], entries["Height"])
 
 
 def stamp_figures(path, placed: list, vector: bool = False) -> None:
@@ -347,7 +372,7 @@ def stamp_figures(path, placed: list, vector: bool = False) -> None:
 def write_pdf(report: Report, path, vector: bool = False) -> None:
     """Lay out ``report`` on A4 pages and write it to ``path``, figures included
     (their PNGs, or with ``vector`` the PDF files beside them)."""
-    stamp_figures(path, lay_out(report, path), vector)
+    place_figures(lay_out(report, path, vector))
 
 
 def _dated_canvas(date: str | None):
@@ -380,15 +405,33 @@ def _dated_canvas(date: str | None):
     return DatedCanvas
 
 
-def lay_out(report: Report, path) -> list:
-    """Write ``report`` to ``path`` with empty space where each figure goes.
+class Pages:
+    """report.pdf laid out, its figures to come (:func:`lay_out`).
+
+    Attributes
+    ----------
+    path : Path
+    placed : list
+        Per figure: page index, x, y, width, height [pt] of its room, its PNG.
+    vector : bool
+        Whether the figures go in as their own PDF pages (the file is then
+        written, and :func:`stamp_figures` adds them) or as their PNGs (the
+        file is not written yet: ``canvas`` writes it, :func:`place_figures`).
+    canvas : reportlab.pdfgen.canvas.Canvas or None
+    """
+
+    def __init__(self, path, placed, vector, canvas=None):
+        self.path, self.placed, self.vector, self.canvas = Path(path), placed, vector, canvas
+
+
+def lay_out(report: Report, path, vector: bool = False) -> Pages:
+    """Lay out ``report`` with room where each figure goes, for :func:`place_figures`.
 
     Needs each figure's PNG, or its ``size``, but not the figure itself yet.
-
-    Returns
-    -------
-    list
-        Where each figure goes, for :func:`stamp_figures`.
+    PNG figures (the default) are drawn on their pages as forms that are
+    defined, and the file written, once the PNGs exist; with ``vector``,
+    the file is written now and the figures' PDF pages are stamped into it
+    afterwards.
     """
     from reportlab.lib.colors import HexColor
     from reportlab.lib.pagesizes import A4
@@ -400,6 +443,7 @@ def lay_out(report: Report, path) -> list:
                             topMargin=1.6 * cm, bottomMargin=1.8 * cm, title=report.title,
                             author=f"bridgecalc {__version__}", subject="thermal bridge report",
                             creator=f"bridgecalc {__version__}", invariant=1)
+    doc._doSave = int(vector)           # ReportLab's switch: the canvas is saved later
 
     def footer(canvas, document):
         canvas.saveState()
@@ -409,15 +453,72 @@ def lay_out(report: Report, path) -> list:
         canvas.drawRightString(A4[0] - margin, 1.0 * cm, f"page {document.page}")
         canvas.restoreState()
 
-    from reportlab import rl_config
-    saved = rl_config.useA85
-    rl_config.useA85 = 0        # binary streams: ASCII85 in pure Python costs seconds
     placed: list = []
     canvas = _dated_canvas(getattr(report, "date", None))
-    try:
-        doc.build(_flowables(report, A4[0] - 2 * margin, placed), onFirstPage=footer,
-                  onLaterPages=footer, **({"canvasmaker": canvas} if canvas else {}))
-    finally:
-        rl_config.useA85 = saved
-    return placed
+    with _binary_streams():
+        doc.build(_flowables(report, A4[0] - 2 * margin, placed, forms=not vector),
+                  onFirstPage=footer, onLaterPages=footer,
+                  **({"canvasmaker": canvas} if canvas else {}))
+    return Pages(path, placed, vector, None if vector else doc.canv)
 
+
+def _binary_streams():
+    """ReportLab writing its streams binary: ASCII85 in pure Python costs seconds."""
+    import contextlib
+
+    from reportlab import rl_config
+
+    @contextlib.contextmanager
+    def binary():
+        saved = rl_config.useA85
+        rl_config.useA85 = 0
+        try:
+            yield
+        finally:
+            rl_config.useA85 = saved
+    return binary()
+
+
+def place_figures(pages: Pages) -> None:
+    """Put the figures into report.pdf where :func:`lay_out` left room, and
+    have the file whole.
+
+    PNG figures: each form drawn on the pages becomes a box of its room's
+    size holding the PNG's image (:func:`png_stream`), scaled to fit and
+    set at the top, and the file is written: ReportLab alone, nothing read
+    back. Vector figures: :func:`stamp_figures`.
+    """
+    if pages.vector:
+        stamp_figures(pages.path, pages.placed, True)
+        return
+    from reportlab.pdfbase.pdfdoc import (PDFArray, PDFDictionary, PDFName,
+                                          PDFObjectReference, PDFStream, PDFZCompress,
+                                          xObjectName)
+    canvas = pages.canvas
+    document = canvas._doc
+
+    def entry(value):
+        if isinstance(value, dict):
+            return PDFDictionary({k: entry(v) for k, v in value.items()})
+        return value if isinstance(value, (int, float)) else PDFName(value)
+    for k, (_, _, _, width, height, png) in enumerate(pages.placed):
+        stream, entries = png_stream(png)
+        image = PDFStream(PDFDictionary({"Type": PDFName("XObject"),
+                                         "Subtype": PDFName("Image"),
+                                         **{k: entry(v) for k, v in entries.items()}}),
+                          stream)
+        image_name = FIGURE_IMAGE.format(k)
+        document.Reference(image, image_name)
+        pw, ph = entries["Width"], entries["Height"]
+        scale = min(width / pw, height / ph)
+        draw = (f"q {pw * scale:.4f} 0 0 {ph * scale:.4f} 0 {height - ph * scale:.4f} cm "
+                f"/Image Do Q")
+        form = PDFStream(PDFDictionary({
+            "Type": PDFName("XObject"), "Subtype": PDFName("Form"),
+            "BBox": PDFArray([0, 0, round(width, 4), round(height, 4)]),
+            "Resources": PDFDictionary({"XObject": PDFDictionary(
+                {"Image": PDFObjectReference(image_name)})})}),
+            draw.encode("ascii"), [PDFZCompress])
+        document.Reference(form, xObjectName(FIGURE_FORM.format(k)))
+    with _binary_streams():
+        canvas.save()
