@@ -321,3 +321,13 @@ def test_pdf_figures_are_the_pngs_pixels_placed_in_their_room(demo, written):
     assert a / d == pytest.approx(width / height, rel=1e-4)        # the PNG's aspect
     assert a == pytest.approx(x1 - x0, abs=1e-3) or d == pytest.approx(y1 - y0, abs=1e-3)
     assert a <= x1 - x0 + 1e-3 and d <= y1 - y0 + 1e-3
+
+
+def test_both_figure_paths_name_bridgecalc_as_the_pdfs_producer(demo, written, tmp_path):
+    """PNG figures (ReportLab alone) and vector figures (stamped with pypdf)
+    give report.pdf the same producer."""
+    from pypdf import PdfReader
+    out = outputs.write_outputs(demo, tmp_path / "vector", stamp=HAND_STAMP, workers=1,
+                                vector_figures=True)
+    for folder in (written, out):
+        assert PdfReader(folder / "report.pdf").metadata["/Producer"].startswith("bridgecalc")

@@ -293,29 +293,10 @@ def png_stream(png: Path) -> tuple[bytes, dict]:
     return stream, entries
 
 
-def png_image(png: Path, writer):
-    """A PNG file as a PDF image XObject added to pypdf's ``writer``
-    (:func:`png_stream`); returns its reference and its size in pixels."""
-    from pypdf.generic import (DictionaryObject, EncodedStreamObject,
-                               NameObject, NumberObject)
-    stream, entries = png_stream(png)
-
-    def value(v):
-        if isinstance(v, dict):
-            return DictionaryObject({NameObject(f"/{k}"): value(x) for k, x in v.items()})
-        return NumberObject(v) if isinstance(v, int) else NameObject(f"/{v}")
-    image = EncodedStreamObject()
-    image._data = stream
-    image.update({NameObject("/Type"): NameObject("/XObject"),
-                  NameObject("/Subtype"): NameObject("/Image"),
-                  **{NameObject(f"/{k}"): value(v) for k, v in entries.items()}})
-    return writer._add_object(image), (entries["Width"], entries["Height"])
-
-
-def stamp_figures(path, placed: list, vector: bool = False) -> None:
-    """Put each figure into the report at ``path`` where :func:`lay_out` left
-    room for it, scaled to fit: its PNG's pixels (:func:`png_image`), or with
-    ``vector`` its own PDF page beside the PNG.
+def stamp_figures(path, placed: list) -> None:
+    """Put each figure's own PDF page (the vector file beside its PNG) into the
+    report written at ``path``, where :func:`lay_out` left room for it,
+    scaled to fit.
 
     A figure page becomes a form XObject whose content stream is copied as it
     is (still compressed), so nothing is parsed or re-encoded.
@@ -332,16 +313,6 @@ def stamp_figures(path, placed: list, vector: bool = False) -> None:
             resources[NameObject("/XObject")] = DictionaryObject()
         name = f"/BridgecalcFigure{k}"
         draw = DecodedStreamObject()
-        if not vector:
-            image_ref, (pw, ph) = png_image(png, writer)
-            resources["/XObject"].get_object()[NameObject(name)] = image_ref
-            scale = min(width / pw, height / ph)
-            draw.set_data(f"q {pw * scale:.4f} 0 0 {ph * scale:.4f} {x:.4f} "
-                          f"{y + height - ph * scale:.4f} cm {name} Do Q".encode("ascii"))
-            old = page["/Contents"]
-            parts = list(old.get_object()) if isinstance(old.get_object(), ArrayObject) else [old]
-            page[NameObject("/Contents")] = ArrayObject(parts + [writer._add_object(draw)])
-            continue
         figure = PdfReader(Path(png).with_suffix(".pdf")).pages[0]
         box = [float(v) for v in figure.mediabox]
         fw, fh = box[2] - box[0], box[3] - box[1]
@@ -489,7 +460,7 @@ def place_figures(pages: Pages) -> None:
     back. Vector figures: :func:`stamp_figures`.
     """
     if pages.vector:
-        stamp_figures(pages.path, pages.placed, True)
+        stamp_figures(pages.path, pages.placed)
         return
     from reportlab.pdfbase.pdfdoc import (PDFArray, PDFDictionary, PDFName,
                                           PDFObjectReference, PDFStream, PDFZCompress,
@@ -520,5 +491,6 @@ def place_figures(pages: Pages) -> None:
                 {"Image": PDFObjectReference(image_name)})})}),
             draw.encode("ascii"), [PDFZCompress])
         document.Reference(form, xObjectName(FIGURE_FORM.format(k)))
+    canvas.setProducer(f"bridgecalc {__version__}")     # as the vector path states it
     with _binary_streams():
         canvas.save()
