@@ -293,3 +293,78 @@ def test_label_spacing_distances_match_a_kd_tree():
         assert np.allclose(found[mine], np.minimum(tree.query(queries[mine])[0], 4.0),
                            rtol=0, atol=1e-12)
     assert (found < 4.0).any() and (found == 4.0).any()     # both cases occur
+
+
+@pytest.mark.parametrize("name", ["temperature", "heat_flux", "mesh"])
+def test_field_images_are_drawn_the_right_way_up(name):
+    """The colour under a point of the rendered figure is the colour of the
+    field at that point. The section is an L whose arm runs along the top
+    only, so a field image turned upside down (or mirrored) puts the arm's
+    colours where the figure shows background, and the background where
+    the arm is. Reference: the model's own geometry and the field's values
+    at the sampled points, through the figure's colour map."""
+    model = loads('''
+format = 1
+name = "L, asymmetric"
+length_unit = "mm"
+[materials.a]
+conductivity = 1.0
+[materials.b]
+conductivity = 0.05
+[[regions]]
+material = "a"
+polygon = [[0, 0], [200, 0], [200, 1500], [1500, 1500], [1500, 1700], [0, 1700]]
+[[regions]]
+material = "b"
+polygon = [[200, 0], [400, 0], [400, 1300], [1500, 1300], [1500, 1500], [200, 1500]]
+[[environments]]
+name = "inside"
+temperature = 20.0
+kind = "interior"
+[[environments]]
+name = "outside"
+temperature = 0.0
+kind = "exterior"
+[[surfaces]]
+environment = "inside"
+resistance = 0.13
+resistance_surface_temperature = 0.25
+path = [[0, 0], [0, 1700], [1500, 1700]]
+[[surfaces]]
+environment = "outside"
+resistance = 0.04
+path = [[400, 0], [400, 1300], [1500, 1300]]
+''')
+    result = run(model, refinement=None)
+    from bridgecalc.outputs.write import assessed
+    result, _ = assessed(result)
+    fig = figures.build_figure(name, result)
+    try:
+        pixels = _pixels(fig)
+        ax = fig.axes[0]
+        scale = figures.PNG_DPI / fig.dpi
+        background = np.asarray(matplotlib_colour(ax.get_facecolor()))
+        def colour_at(x, y):
+            px, py = ax.transData.transform((x, y)) * scale
+            row, col = int(round(pixels.shape[0] - py)), int(round(px))
+            patch = pixels[row - 2:row + 3, col - 2:col + 3].reshape(-1, 3)
+            return np.median(patch, axis=0)
+        # in the arm (solid) and mirrored about the view's middle (no solid)
+        (x0, x1), (y0, y1) = ax.get_xlim(), ax.get_ylim()
+        arm = (1200.0, 1600.0)
+        mirrored = (arm[0], y0 + y1 - arm[1])
+        assert not np.allclose(colour_at(*arm), background, atol=6), "arm shows background"
+        assert np.allclose(colour_at(*mirrored), background, atol=6), "field where no solid is"
+        if name == "temperature":
+            image = [a for a in ax.get_images()][0]
+            theta = float(result.surface_temperature_case.field.at(
+                [(arm[0] / 1000, arm[1] / 1000)])[0])
+            expected = np.asarray(image.cmap(image.norm(theta))[:3]) * 255
+            assert np.allclose(colour_at(*arm), expected, atol=12), (colour_at(*arm), expected)
+    finally:
+        figures.plt.close(fig)
+
+
+def matplotlib_colour(colour):
+    """An RGB(A) colour in 0..1 as 0..255 RGB."""
+    return [round(255 * c) for c in colour[:3]]

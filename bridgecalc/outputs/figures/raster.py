@@ -199,9 +199,11 @@ class PixelImage(AxesImage):
                     and box.x0 >= clip.x0 - 1 and box.x1 <= clip.x1 + 1
                     and box.y0 >= clip.y0 - 1 and box.y1 <= clip.y1 + 1):
                 x0, y0 = np.floor(box.x0 + 0.5), np.floor(box.y0 + 0.5)
-                pixels = np.ascontiguousarray(data[::-1] if data.shape[2] == 4 else
+                # rows as they are: the renderer puts row 0 at the bottom, as
+                # matplotlib's own resampling leaves an image of origin "lower"
+                pixels = np.ascontiguousarray(data if data.shape[2] == 4 else
                                               np.dstack([data, np.full((rows, columns), 255,
-                                                                       np.uint8)])[::-1])
+                                                                       np.uint8)]))
                 return pixels, x0, y0, Affine2D().translate(x0, y0)
         return super().make_image(renderer, magnification, unsampled)
 
