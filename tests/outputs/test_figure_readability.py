@@ -153,7 +153,8 @@ def test_every_material_shows_its_colour_even_a_thin_membrane():
             rgb = np.round(np.asarray(style["fill"][:3]) * 255).astype(int)
             present = (np.abs(pixels - rgb).max(axis=2) <= 2).sum()
             assert present >= 50, (name, present)
-        legend = [t.get_text() for t in fig.legends[0].get_texts()]
+        # read as one line: labels are wrapped to the panel's width
+        legend = [" ".join(t.get_text().split()) for t in fig.legends[0].get_texts()]
         assert any(t.startswith("membrane (thin: outlined)") for t in legend)
         assert not any(t.startswith("concrete (thin") for t in legend)
     finally:
@@ -350,7 +351,7 @@ path = [[400, 0], [400, 1300], [1500, 1300]]
             patch = pixels[row - 2:row + 3, col - 2:col + 3].reshape(-1, 3)
             return np.median(patch, axis=0)
         # in the arm (solid) and mirrored about the view's middle (no solid)
-        (x0, x1), (y0, y1) = ax.get_xlim(), ax.get_ylim()
+        y0, y1 = ax.get_ylim()
         arm = (1200.0, 1600.0)
         mirrored = (arm[0], y0 + y1 - arm[1])
         assert not np.allclose(colour_at(*arm), background, atol=6), "arm shows background"
@@ -368,3 +369,46 @@ path = [[400, 0], [400, 1300], [1500, 1300]]
 def matplotlib_colour(colour):
     """An RGB(A) colour in 0..1 as 0..255 RGB."""
     return [round(255 * c) for c in colour[:3]]
+
+
+def test_legend_labels_stay_inside_the_figure(geometries):
+    """The ground floor's materials legend sits in a side panel at the page's
+    right edge; its longest label ("cement_screed (thin: outlined)") ran past
+    the figure's edge. Every legend text, as drawn, lies inside the figure,
+    and reads the same once its line breaks are taken out."""
+    result = run(load(geometries / "ground_floor.py"))
+    fig = figures.build_figure("materials", result)
+    try:
+        renderer = fig.canvas.get_renderer()
+        right = fig.bbox.x1
+        texts = fig.legends[0].get_texts()
+        for text in texts:
+            box = text.get_window_extent(renderer)
+            assert box.x1 <= right, (text.get_text(), box.x1, right)
+        words = " ".join(" ".join(t.get_text().split()) for t in texts)
+        assert "cement_screed (thin: outlined)" in words
+        assert any("\n" in t.get_text().split("\nλ")[0] for t in texts)   # one was wrapped
+    finally:
+        figures.plt.close(fig)
+
+
+def test_wrapping_breaks_at_spaces_then_inside_words():
+    """Lines wider than the room break at spaces, then after "_" or "-", then
+    anywhere; no line comes out wider than the room unless it is one
+    character; the text reads the same without its breaks."""
+    from matplotlib.font_manager import FontProperties
+    from matplotlib.textpath import text_to_path
+    from bridgecalc.outputs.figures.layout import wrap_to_width
+    font = FontProperties(size=7.0)
+
+    def wide(line):
+        return text_to_path.get_text_width_height_descent(line, font, ismath=False)[0] / 72.0
+    for text in ("short", "two words that will not fit on one line at all",
+                 "a_long_material_name_without_spaces_anywhere_in_it",
+                 "x" * 80, "first line fits\nsecond line is much too long to fit the room"):
+        wrapped = wrap_to_width(text, 1.0, 7.0)
+        assert all(wide(line) <= 1.0 or len(line) == 1 for line in wrapped.split("\n"))
+        # nothing but white space added or taken away
+        assert "".join(wrapped.split()) == "".join(text.split())
+    assert wrap_to_width("short", 1.0, 7.0) == "short"
+    assert wrap_to_width("ab_cd", wide("ab_c"), 7.0).split("\n")[0] == "ab_"

@@ -246,19 +246,86 @@ def _scale_bar(ax, result, extent):
     ax.add_artist(bar)
 
 
+#: The legend's handle length, the gap to its text and its padding [font sizes].
+LEGEND_HANDLE, LEGEND_GAP, LEGEND_PAD = 2.4, 0.8, 0.4
+
+
+def wrap_to_width(text: str, width: float, size: float) -> str:
+    """``text`` with each line broken so that none is wider than ``width`` [in]
+    at ``size`` [pt] (measured from the font's outlines, as :func:`text_width`):
+    at spaces, then inside a word after "_" or "-", then anywhere. A legend
+    label of a long material name ("cement_screed (thin: outlined)") ran off
+    the page."""
+    from matplotlib.font_manager import FontProperties
+    from matplotlib.textpath import text_to_path
+    font = FontProperties(size=size)
+
+    def wide(piece):
+        return text_to_path.get_text_width_height_descent(piece, font, ismath=False)[0] / 72.0
+
+    def pieces(word):
+        """The word cut where it may be (after _ or -), each piece fitting if it can."""
+        out, start = [], 0
+        for k, c in enumerate(word):
+            if c in "_-" and k + 1 < len(word):
+                out.append(word[start:k + 1])
+                start = k + 1
+        out.append(word[start:])
+        fitted = []
+        for piece in out:
+            while len(piece) > 1 and wide(piece) > width:
+                cut = 1                     # the longest start that fits, one character at least
+                while cut < len(piece) and wide(piece[:cut + 1]) <= width:
+                    cut += 1
+                fitted.append(piece[:cut])
+                piece = piece[cut:]
+            fitted.append(piece)
+        return fitted
+
+    lines = []
+    for line in text.split("\n"):
+        if wide(line) <= width:
+            lines.append(line)
+            continue
+        current = ""
+        for word in line.split(" "):
+            trial = f"{current} {word}" if current else word
+            if wide(trial) <= width:
+                current = trial
+                continue
+            if current:
+                lines.append(current)
+            current = ""
+            for piece in pieces(word):
+                if current and wide(current + piece) > width:
+                    lines.append(current)
+                    current = ""
+                current += piece
+        lines.append(current)
+    return "\n".join(lines)
+
+
 def legend(fig, ax, handles, aspect, title=None, below=None):
     """Legend in the figure's panel: right of a tall section, below a wide one;
-    under the colour bar ``below`` when the panel holds one too."""
+    under the colour bar ``below`` when the panel holds one too. Labels are
+    wrapped to the panel's width (:func:`wrap_to_width`)."""
     left, bottom, width, height = fig._bridgecalc_panel
     side = panel_beside(fig, aspect)
+    columns = 1 if side else 2
+    size = float(plt.rcParams["legend.fontsize"])
+    room = (width * fig.get_figwidth() / columns
+            - (LEGEND_HANDLE + LEGEND_GAP + 2 * LEGEND_PAD) * size / 72.0)
+    for handle in handles:
+        handle.set_label(wrap_to_width(handle.get_label(), room, size))
     top = bottom + height
     if below is not None:
         box = below.ax.get_position()
         top = box.y0 - (0.3 if side else 0.55) / fig.get_figheight()
     leg = fig.legend(handles=handles, loc="upper left",
                      bbox_to_anchor=(left, top), borderaxespad=0.0,
-                     title=title, alignment="left", handlelength=2.4, handleheight=1.8,
-                     ncols=1 if side else 2, labelspacing=0.6)
+                     title=title, alignment="left", handlelength=LEGEND_HANDLE,
+                     handletextpad=LEGEND_GAP, borderpad=LEGEND_PAD, handleheight=1.8,
+                     ncols=columns, labelspacing=0.6)
     leg.get_title().set_fontweight("bold")
     for text in leg.get_texts():
         text.set_parse_math(False)        # material names are the user's, "$" included

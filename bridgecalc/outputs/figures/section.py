@@ -64,7 +64,7 @@ def materials_figure(result, detail=False):
                 outline_detail(axes, result)
         handles = [Patch(facecolor=style[n]["fill"], edgecolor=style[n]["line"],
                          hatch=style[n]["hatch"], linewidth=0.4,
-                         label=f"{n}" + (" (thin: outlined)" if n in thin else "")
+                         label=f"{n}" + (" (thin:\u00a0outlined)" if n in thin else "")
                          + f"\nλ = {model.materials[n].conductivity:g} W/(m·K)")
                    for n in names]
         legend(fig, ax, handles, aspect, title="material")
