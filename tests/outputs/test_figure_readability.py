@@ -412,3 +412,23 @@ def test_wrapping_breaks_at_spaces_then_inside_words():
         assert "".join(wrapped.split()) == "".join(text.split())
     assert wrap_to_width("short", 1.0, 7.0) == "short"
     assert wrap_to_width("ab_cd", wide("ab_c"), 7.0).split("\n")[0] == "ab_"
+
+
+def test_distances_keep_clear_of_the_scale_bar(geometries):
+    """The window jamb's interior surface starts at the top of a tall narrow
+    section, in the corner where the scale bar goes: its "s = 0" was printed
+    over the bar. Every distance text now lies clear of the scale bar."""
+    result = run(load(geometries / "window_jamb.py"))
+    fig = figures.build_figure("temperature", result)
+    try:
+        renderer = fig.canvas.get_renderer()
+        for ax in fig.axes:
+            bars = [a.get_window_extent(renderer) for a in ax.artists
+                    if a.get_gid() == "scale-bar"]
+            marks = [t.get_window_extent(renderer) for t in ax.texts
+                     if t.get_gid() == "profile-distance"]
+            for bar in bars:
+                assert not any(m.overlaps(bar) for m in marks)
+        assert any(t.get_gid() == "profile-distance" for ax in fig.axes for t in ax.texts)
+    finally:
+        figures.plt.close(fig)

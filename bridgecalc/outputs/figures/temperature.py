@@ -82,8 +82,10 @@ def temperature_figure(result, isotherm_step=None, detail=False):
             renderer = fig.canvas.get_renderer()
             labels = [t.get_window_extent(renderer) for c in axes.collections
                       for t in getattr(c, "labelTexts", [])]
+            bars = [a.get_window_extent(renderer) for a in axes.artists
+                    if a.get_gid() == "scale-bar"]
             _mark_distances(axes, result, shown,
-                            avoid=labels + ([] if marker is None else [marker]))
+                            avoid=labels + bars + ([] if marker is None else [marker]))
             if not is_close:
                 outline_detail(axes, result)
         colour_bar(fig, ax, filled, aspect, "temperature θ [°C]",
@@ -184,7 +186,7 @@ def _mark_distances(ax, result, extent, avoid=()) -> None:
     across the view), "s = 0" where each run starts. A run ends at a cut-off
     plane; the next starts after the profile's gap, as on its axis. A text that
     would lie under one of the ``avoid`` boxes [display units] (the θsi,min
-    label, the isotherm labels) goes to another corner of its tick
+    label, the isotherm labels, the scale bar) goes to another corner of its tick
     (:data:`DISTANCE_PLACES`)."""
     from ...results import interior_surface_profiles
     from .layout import nice_step
