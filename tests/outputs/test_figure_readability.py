@@ -432,3 +432,28 @@ def test_distances_keep_clear_of_the_scale_bar(geometries):
         assert any(t.get_gid() == "profile-distance" for ax in fig.axes for t in ax.texts)
     finally:
         figures.plt.close(fig)
+
+
+def test_the_coldest_points_label_stays_on_the_page(geometries):
+    """The steel column's whole view is a narrow strip at the page's left
+    edge, with the coldest point on its left side: no place for the θsi,min
+    label fits inside it, and the one over the least solid lay past the
+    page's left edge ("θsi," cut off). The label now stays on the page and
+    off the close view beside it."""
+    result = run(load(geometries / "steel_beam.py"))
+    fig = figures.build_figure("temperature", result)
+    try:
+        renderer = fig.canvas.get_renderer()
+        page = fig.bbox
+        for ax in fig.axes:
+            for text in ax.texts:
+                if text.get_gid() != "theta-si-min-label":
+                    continue
+                box = text.get_window_extent(renderer)
+                assert page.x0 <= box.x0 and box.x1 <= page.x1, (box, page)
+                assert page.y0 <= box.y0 and box.y1 <= page.y1, (box, page)
+                for other in fig.axes:
+                    if other is not ax:
+                        assert not box.overlaps(other.get_window_extent()), text.get_text()
+    finally:
+        figures.plt.close(fig)

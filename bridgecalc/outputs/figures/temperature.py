@@ -97,8 +97,9 @@ def _mark_minimum(ax, result, extent, grid):
     """Ring at θsi,min, and its label where it covers the least of the solid.
 
     The label is tried in the four diagonal directions at two distances; a
-    place fully inside the plot is preferred, then the one over the least
-    solid. Nothing is drawn when θsi,min lies outside the view.
+    place fully inside the plot is preferred; failing that, one on the page
+    and off the figure's other plots and colour bar; then the one over the
+    least solid. Nothing is drawn when θsi,min lies outside the view.
 
     Parameters
     ----------
@@ -137,6 +138,8 @@ def _mark_minimum(ax, result, extent, grid):
     plot = Bbox.from_extents(plot.x0, plot.y0, max(plot.x1, panel_left), plot.y1)
     to_data = ax.transData.inverted()
     gx, gy, cells = grid
+    page = fig.bbox
+    others = [a.get_window_extent() for a in fig.axes if a is not ax]
     best = None
     # shorter wordings for a narrow plot; the report gives the position anyway
     for wording in (f"θsi,min = {value}\n{where}", f"θsi,min = {value}", f"θsi,min\n{value}"):
@@ -160,7 +163,12 @@ def _mark_minimum(ax, result, extent, grid):
                               slice(*np.searchsorted(gx, (ax0, ax1)))]
                 covered = float((under >= 0).sum()) / max(
                     1.0, (ax1 - ax0) / (gx[1] - gx[0]) * (ay1 - ay0) / (gy[1] - gy[0]))
-                score = (not inside, round(covered, 6), distance, -dy, -dx)
+                # failing the plot: on the page, then off the figure's other plots
+                on_page = (box.x0 >= page.x0 and box.x1 <= page.x1
+                           and box.y0 >= page.y0 and box.y1 <= page.y1)
+                over_other = any(box.overlaps(other) for other in others)
+                score = (not inside, not on_page, over_other, round(covered, 6), distance,
+                         -dy, -dx)
                 if best is None or score < best[0]:
                     best = (score, dx, dy, distance, box, wording)
         if not best[0][0]:          # a place inside the plot: this wording fits
