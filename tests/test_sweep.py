@@ -254,3 +254,32 @@ def test_dask_local_cluster_gives_the_same_rows(api_rows):
         assert got.theta_si_min == expected.theta_si_min
         assert got.f_rsi == expected.f_rsi
         assert got.mesh_nodes == expected.mesh_nodes
+
+
+def test_the_figure_reads_values_as_they_are_and_does_not_blow_up_noise():
+    """A sweep whose fRsi moved by 4e-5 (mesh noise, below the 0.001 it is
+    read to) drew it over the whole panel under an offset label
+    "1e−5+9.521e−1", as if it fell steeply. Value axes are now plain numbers,
+    spanning at least what each quantity is read to; a real change in Ψ keeps
+    its own scale."""
+    from bridgecalc.sweep import sweep_figure
+    from bridgecalc.sweep.table import LEAST_SPAN
+    from bridgecalc.sweep.variants import VariantResult
+    from bridgecalc.outputs import figures
+    rows = [VariantResult(k, {"t": t}, "ok", psi=0.004 - 0.0001 * t, coupling_coefficient=0.5,
+                          theta_si_min=19.04, f_rsi=0.95221 - 5e-7 * t)
+            for k, t in enumerate(range(0, 81, 20))]
+    fig = sweep_figure(rows, ["t"])
+    try:
+        fig.canvas.draw()
+        psi_ax, f_ax = fig.axes[0], fig.axes[1]
+        for ax in (psi_ax, f_ax):
+            assert ax.yaxis.get_offset_text().get_text() == ""
+        lo, hi = f_ax.get_ylim()
+        assert hi - lo >= LEAST_SPAN["fRsi"] and lo < 0.95217 and hi > 0.95221
+        lo, hi = psi_ax.get_ylim()
+        assert hi - lo < 0.012                       # Ψ's own change (0.008) sets it
+        labels = [t.get_text() for t in f_ax.get_yticklabels()]
+        assert any(label.startswith("0.95") for label in labels), labels
+    finally:
+        figures.plt.close(fig)

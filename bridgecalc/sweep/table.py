@@ -9,6 +9,7 @@ import io
 import math
 import textwrap
 from pathlib import Path
+from types import MappingProxyType
 
 from ..outputs import staged_folder
 from .variants import CAUTION, CSV_FILE, FIGURE_FILE, NOTES_FILE, RESULT_COLUMNS, VariantResult
@@ -105,7 +106,7 @@ def sweep_figure(rows: list[VariantResult], varied: list[str], title: str = ""):
             groups: dict[tuple, list[VariantResult]] = {}
             for r in rows:
                 groups.setdefault(tuple(r.params[n] for n in others), []).append(r)
-            for row_ax, (value_of, axis_label) in enumerate(quantities):
+            for row_ax, (value_of, axis_label, least) in enumerate(quantities):
                 ax = axes[row_ax][col]
                 for k, (key, members) in enumerate(groups.items()):
                     members = sorted(members, key=lambda m: x_of[m.params[name]])
@@ -119,6 +120,7 @@ def sweep_figure(rows: list[VariantResult], varied: list[str], title: str = ""):
                             label=", ".join(csv_cell(v) for v in key))
                 ax.set_ylabel(axis_label)
                 ax.set_xlabel(name)
+                _plain_axis(ax, [value_of(m) for m in ok], least)
                 if labels is not None:
                     ax.set_xticks(range(len(labels)), labels)
                 if not ok:
@@ -134,8 +136,28 @@ def sweep_figure(rows: list[VariantResult], varied: list[str], title: str = ""):
     return fig
 
 
+#: The least span of a panel's value axis: changes smaller than these are
+#: below what a result is read to (Ψ and L to 0.001 W/(m·K), fRsi to 0.001,
+#: θsi,min to 0.01 K; common practice) and are drawn as the near-flat line they are,
+#: not stretched over the whole panel.
+LEAST_SPAN = MappingProxyType({"W/(m·K)": 0.002, "fRsi": 0.005, "°C": 0.1})
+
+
+def _plain_axis(ax, values, least: float) -> None:
+    """Plain tick labels on the value axis (no offset such as "1e−5 + 9.521e−1"),
+    spanning at least ``least`` about the values' middle."""
+    ax.ticklabel_format(axis="y", useOffset=False, style="plain")
+    finite = [v for v in values if v is not None and math.isfinite(v)]
+    if not finite:
+        return
+    lo, hi = min(finite), max(finite)
+    if hi - lo < least:
+        middle = (lo + hi) / 2
+        ax.set_ylim(middle - 0.55 * least, middle + 0.55 * least)
+
+
 def _plotted(ok: list[VariantResult]) -> list:
-    """(value of a row, axis label) of each row of panels."""
+    """(value of a row, axis label, least span of its axis) of each row of panels."""
     if any(r.couplings for r in ok) and not any(r.coupling_coefficient is not None for r in ok):
         pairs = list(dict.fromkeys(pair for r in ok for pair, _, _ in r.couplings))
         use_psi = {pair: any(p == pair and psi is not None for r in ok
@@ -145,14 +167,16 @@ def _plotted(ok: list[VariantResult]) -> list:
             return lambda m: next((c[index] for c in m.couplings if c[0] == pair), None)
 
         rows = [(getter(pair, 2 if use_psi[pair] else 1),
-                 f"{'Ψ' if use_psi[pair] else 'L'} {pair[0]}–{pair[1]} [W/(m·K)]")
+                 f"{'Ψ' if use_psi[pair] else 'L'} {pair[0]}–{pair[1]} [W/(m·K)]",
+                 LEAST_SPAN["W/(m·K)"])
                 for pair in pairs]
-        return rows + [(lambda m: m.theta_si_min, "θsi,min [°C]")]
+        return rows + [(lambda m: m.theta_si_min, "θsi,min [°C]", LEAST_SPAN["°C"])]
     if any(r.psi is not None for r in ok):
-        first = (lambda m: m.psi, "Ψ [W/(m·K)]")
+        first = (lambda m: m.psi, "Ψ [W/(m·K)]", LEAST_SPAN["W/(m·K)"])
     else:
-        first = (lambda m: m.coupling_coefficient, "L2D [W/(m·K)]")
-    return [first, (lambda m: m.f_rsi, "fRsi at θsi,min [-]\n(θsi,min − θe)/(θi − θe)")]
+        first = (lambda m: m.coupling_coefficient, "L2D [W/(m·K)]", LEAST_SPAN["W/(m·K)"])
+    return [first, (lambda m: m.f_rsi, "fRsi at θsi,min [-]\n(θsi,min − θe)/(θi − θe)",
+                    LEAST_SPAN["fRsi"])]
 
 
 def notes_text(rows: list[VariantResult], vary: dict, script: str,
