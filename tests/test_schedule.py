@@ -336,3 +336,29 @@ def test_more_than_two_environments_count_the_pair_named_by_between(tmp_path, ca
     assert result.rows[0].outcome.psi == pair["psi"]
     assert result.heat_transfer_coefficient == pytest.approx(10.0 * pair["psi"], rel=1e-12)
     assert result.rows[0].outcome.psi_error_estimate > 0
+
+
+def test_the_share_chart_keeps_its_labels_off_the_junction_names(first):
+    """A negative Ψ·l (a wall corner) had its label printed left of its bar,
+    over the junction's name at the axis. Labels now sit right of the zero
+    line and of positive bars, inside the figure, and print Ψ·l as the table
+    does (three decimals)."""
+    from bridgecalc.schedule.report import share_chart
+    _, _, result = first
+    fig = share_chart(result)
+    try:
+        fig.canvas.draw()
+        renderer = fig.canvas.get_renderer()
+        ax = fig.axes[0]
+        names = [t.get_window_extent(renderer) for t in ax.get_yticklabels()]
+        labels = [t for t in ax.texts if "W/K" in t.get_text()]
+        assert len(labels) == len([r for r in result.rows if r.ok])
+        for text in labels:
+            box = text.get_window_extent(renderer)
+            assert not any(box.overlaps(name) for name in names), text.get_text()
+            assert fig.bbox.x0 <= box.x0 and box.x1 <= fig.bbox.x1, text.get_text()
+            value = text.get_text().split(" W/K")[0].replace("−", "-")
+            assert len(value.split(".")[1]) == 3, text.get_text()
+    finally:
+        from bridgecalc.outputs import figures
+        figures.plt.close(fig)

@@ -76,12 +76,14 @@ def share_chart(result: ScheduleResult):
     span = max((abs(v) for v in values), default=1.0) or 1.0
     for pos, r, v in zip(positions, rows, values):
         share = result.share(r)
-        text = f"{v:.3g} W/K" + (f" ({100 * share:.1f} %)" if share is not None else "")
-        ax.text(v + (0.02 * span if v >= 0 else -0.02 * span), pos, text, va="center",
-                ha="left" if v >= 0 else "right", fontsize=7)
+        # as the table prints it; a negative bar's label goes right of the zero
+        # line, where its row is free, not left of the bar over the row's name
+        text = (f"{_n(v, 3)} W/K"
+                + (f" ({_n(100 * share, 1)} %)" if share is not None else ""))
+        ax.text(max(v, 0.0) + 0.02 * span, pos, text, va="center", ha="left", fontsize=7)
     low = min(min(values, default=0.0), 0.0)
     high = max(max(values, default=0.0), 0.0)
-    ax.set_xlim(low - (0.45 * span if low < 0 else 0.05 * span), high + 0.45 * span)
+    ax.set_xlim(low - 0.05 * span, high + 0.45 * span)
     total = result.heat_transfer_coefficient
     ax.set_title("Share of H_TB = Σ Ψ·l" + (f" = {total:.3g} W/K" if total is not None
                                              else " (no total: a junction failed)"),
