@@ -574,3 +574,30 @@ def test_shipped_climates_read(name):
     months = read_climate(api.geometries_folder() / f"climate_{name}.csv")
     assert [m.month for m in months] == list(range(1, 13))
     assert all(0 < m.relative_humidity < 1 for m in months)
+
+
+def test_the_critical_isotherms_entry_sits_once_in_the_panel(tmp_path):
+    """The critical month's isotherm had a legend inside each view, which in a
+    narrow whole view ran over the close view beside it and the scale bar.
+    Its one entry now sits in the figure's panel under the colour bar: inside
+    the figure, clear of every plot, and the figure has the size the report
+    laid out for it (catalogue.figure_size, known before drawing)."""
+    from bridgecalc import api
+    from bridgecalc.outputs import figures
+    from bridgecalc.outputs.write import assessed
+    result, _ = assessed(api.run(read(files(tmp_path)), refinement=None))
+    fig = figures.build_figure("temperature", result)
+    try:
+        renderer = fig.canvas.get_renderer()
+        entries = [leg for leg in fig.legends if leg.get_gid() == "critical-isotherm-legend"]
+        assert len(entries) == 1
+        assert not any(ax.get_legend() for ax in fig.axes)
+        box = entries[0].get_window_extent(renderer)
+        assert fig.bbox.x0 <= box.x0 and box.x1 <= fig.bbox.x1
+        assert fig.bbox.y0 <= box.y0 and box.y1 <= fig.bbox.y1
+        for ax in fig.axes:
+            assert not box.overlaps(ax.get_window_extent()), ax.get_gid()
+        assert tuple(fig.get_size_inches()) == pytest.approx(
+            figures.figure_size("temperature", result), abs=1e-9)
+    finally:
+        figures.plt.close(fig)

@@ -14,6 +14,9 @@ import math
 
 import numpy as np
 
+from ...model.rules import two_temperature_sides
+from ..verdicts import moisture_of
+
 
 FIGURES = ("materials", "mesh", "temperature", "heat_flux", "surface_temperature")
 #: Figures of the section: where it has a :func:`detail_window`, each shows the
@@ -356,12 +359,40 @@ def side_or_below(aspect: float) -> bool:
 
 
 def legend_rows(name: str, result) -> int:
-    """Rows of the legend of figure ``name`` when it sits in two columns below the view."""
+    """Rows of the legend of figure ``name`` when it sits in two columns below
+    the view; a colour bar above a legend counts as the rows it takes too."""
     if name in ("materials", "materials_detail"):
         return math.ceil(len(material_codes(result)[0]) / 2)
     if name in ("mesh", "mesh_detail"):
         return 4
+    if name in ("temperature", "temperature_detail") and critical_isotherm_shown(result):
+        return 3            # the colour bar, then the critical isotherm's entry
     return 0
+
+
+def critical_isotherm_level(result) -> float | None:
+    """The temperature [°C] of the figure's field at which its temperature factor
+    equals the critical month's fRsi,min: θe + fRsi,min·(θi − θe) with the
+    model's θi and θe. In the critical month's own conditions that line is its
+    lowest acceptable surface temperature θsi,min. None without a moisture
+    check, a critical month, or with more than two temperatures (the field's
+    factor then depends on the month)."""
+    moisture = moisture_of(result)
+    sides = two_temperature_sides(result.model)
+    if moisture is None or moisture.critical_month is None or sides is None:
+        return None
+    theta_i, theta_e = sides
+    return theta_e + moisture.f_rsi_required * (theta_i - theta_e)
+
+
+def critical_isotherm_shown(result) -> bool:
+    """Whether the temperature figure draws the critical month's isotherm: it
+    has a level (:func:`critical_isotherm_level`) inside the field's range."""
+    level = critical_isotherm_level(result)
+    if level is None:
+        return False
+    theta = result.surface_temperature_case.field.nodal
+    return bool(float(np.min(theta)) < level < float(np.max(theta)))
 
 
 def material_codes(result):

@@ -311,7 +311,7 @@ def legend(fig, ax, handles, aspect, title=None, below=None):
     wrapped to the panel's width (:func:`wrap_to_width`)."""
     left, bottom, width, height = fig._bridgecalc_panel
     side = panel_beside(fig, aspect)
-    columns = 1 if side else 2
+    columns = 1 if side else min(2, len(handles))
     size = float(plt.rcParams["legend.fontsize"])
     room = (width * fig.get_figwidth() / columns
             - (LEGEND_HANDLE + LEGEND_GAP + 2 * LEGEND_PAD) * size / 72.0)

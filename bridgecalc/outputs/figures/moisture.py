@@ -10,9 +10,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from ...model.rules import two_temperature_sides
 from ..verdicts import MONTH_NAMES, moisture_of, short_humidity
-from .catalogue import MARGIN_LEFT, MARGIN_TOP, PAGE_WIDTH, PROFILE_BOTTOM, PROFILE_HEIGHT
+from .catalogue import (MARGIN_LEFT, MARGIN_TOP, PAGE_WIDTH, PROFILE_BOTTOM, PROFILE_HEIGHT,
+                        critical_isotherm_level, critical_isotherm_shown)
 from .layout import header
 from .style import ADIABATIC, INTERIOR, MUTED, PAPER, STYLE, VOID, plt
 
@@ -87,35 +87,21 @@ def moisture_figure(result):
     return fig
 
 
-def critical_isotherm_level(result) -> float | None:
-    """The temperature [°C] of the figure's field at which its temperature factor
-    equals the critical month's fRsi,min: θe + fRsi,min·(θi − θe) with the
-    model's θi and θe. In the critical month's own conditions that line is its
-    lowest acceptable surface temperature θsi,min. None without a moisture
-    check, a critical month, or with more than two temperatures (the field's
-    factor then depends on the month)."""
-    moisture = moisture_of(result)
-    sides = two_temperature_sides(result.model)
-    if moisture is None or moisture.critical_month is None or sides is None:
-        return None
-    theta_i, theta_e = sides
-    return theta_e + moisture.f_rsi_required * (theta_i - theta_e)
-
-
-def draw_critical_isotherm(ax, triangulation, theta, result) -> None:
+def draw_critical_isotherm(ax, triangulation, theta, result):
     """On the temperature figure: the isotherm of the critical month's θsi,min
-    (:func:`critical_isotherm_level`), dashed, with a legend entry, so a
-    reviewer sees where the surface falls below it."""
+    (:func:`critical_isotherm_level`), dashed, so a reviewer sees where the
+    surface falls below it. Returns its legend entry (a line with its label),
+    or None when the level is not in the field; the figure shows the entry
+    once, in its panel under the colour bar, not over each view."""
+    from matplotlib.lines import Line2D
+    if not critical_isotherm_shown(result):
+        return None
     level = critical_isotherm_level(result)
-    if level is None or not float(np.min(theta)) < level < float(np.max(theta)):
-        return
     moisture = moisture_of(result)
     critical = moisture.critical
     ax.tricontour(triangulation, theta, levels=[level], colors=REQUIRED, linewidths=1.3,
                   linestyles=[(0, (4, 2))], zorder=4).set_gid("critical-isotherm")
-    ax.plot([], [], color=REQUIRED, lw=1.3, ls=(0, (4, 2)),
-            label=f"fRsi,min = {moisture.f_rsi_required:.3f} of "
-                  f"{MONTH_NAMES[moisture.critical_month - 1]} (θsi,min "
-                  f"{critical.minimum_surface_temperature:.1f} °C then)")
-    ax.legend(loc="lower left", fontsize=6, frameon=True, framealpha=0.9, borderpad=0.4,
-              handlelength=2.2).set_gid("critical-isotherm-legend")
+    return Line2D([], [], color=REQUIRED, lw=1.3, ls=(0, (4, 2)),
+                  label=f"fRsi,min = {moisture.f_rsi_required:.3f} of "
+                        f"{MONTH_NAMES[moisture.critical_month - 1]} (θsi,min "
+                        f"{critical.minimum_surface_temperature:.1f} °C then)")

@@ -10,12 +10,12 @@ from matplotlib.text import Text
 
 from ...model.rules import temperature_levels, two_temperature_sides
 from ...results import printed_position
-from .catalogue import detail_window, view
+from .catalogue import detail_window, legend_rows, view
 from .edges import material_boundaries, segments_path
 from .isotherms import (MAX_ISOTHERMS, bar_ticks, default_isotherm_step, isotherm_levels,
                         label_isotherms)
 from .moisture import draw_critical_isotherm
-from .layout import colour_bar, frame, new_figure, outline_detail, views
+from .layout import colour_bar, frame, legend, new_figure, outline_detail, views
 from .raster import field_image, linear_in_cells, pixel_grid
 from .style import INK, STYLE, TEMPERATURE_CMAP, plt
 
@@ -54,7 +54,8 @@ def temperature_figure(result, isotherm_step=None, detail=False):
             + f", surface-temperature case ({environments_text(model)}); "
             f"isotherms every {step:g} K"
             + (f" (not {asked:g} K: at most {MAX_ISOTHERMS} lines)" if step != asked else ""),
-            extent, panel_at_edge=True, close=close)
+            extent, legend_rows("temperature_detail" if detail else "temperature", result),
+            panel_at_edge=True, close=close)
         vmin = min(levels[0], lo)
         vmax = max(levels[-1], hi)
         norm = mcolors.Normalize(vmin=vmin, vmax=vmax)
@@ -78,7 +79,7 @@ def temperature_figure(result, isotherm_step=None, detail=False):
                                       linewidths=0.55)
                 label_isotherms(axes, iso, filled, avoid=[] if marker is None else [marker],
                                 outline=xy[mesh.boundary_edges])
-            draw_critical_isotherm(axes, triangulation, theta, result)
+            critical = draw_critical_isotherm(axes, triangulation, theta, result)
             renderer = fig.canvas.get_renderer()
             labels = [t.get_window_extent(renderer) for c in axes.collections
                       for t in getattr(c, "labelTexts", [])]
@@ -88,8 +89,12 @@ def temperature_figure(result, isotherm_step=None, detail=False):
                             avoid=labels + bars + ([] if marker is None else [marker]))
             if not is_close:
                 outline_detail(axes, result)
-        colour_bar(fig, ax, filled, aspect, "temperature θ [°C]",
-                   ticks=bar_ticks(vmin, vmax, step))
+        # beside a tall section the bar leaves room under it for the entry
+        bar = colour_bar(fig, ax, filled, aspect, "temperature θ [°C]",
+                         ticks=bar_ticks(vmin, vmax, step),
+                         length=1.0 if critical is None else 0.6)
+        if critical is not None:
+            legend(fig, ax, [critical], aspect, below=bar).set_gid("critical-isotherm-legend")
     return fig
 
 
