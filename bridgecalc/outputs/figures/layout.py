@@ -144,8 +144,8 @@ def _beside_figure(title, subtitle, whole, close, legend_rows):
     near = fig.add_axes(fraction(layout["close"]))
     near._bridgecalc_extent = fill_box(close, layout["close"])
     near.set_gid("close-view")
-    header(fig, title, subtitle + ("; the junction close up below" if layout["side"]
-                                   else "; the junction close up at right"))
+    header(fig, title, subtitle + ("; close view below" if layout["side"]
+                                   else "; close view at right"))
     fig._bridgecalc_panel = fraction(layout["panel"])
     fig._bridgecalc_side = layout["side"]
     fig._bridgecalc_close = near
