@@ -9,6 +9,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..model import Model
+from ..solve.assembly import p1_gradients
 
 
 def heat_flux_density(model: Model, temperature_field) -> np.ndarray:
@@ -33,15 +34,10 @@ def heat_flux_density(model: Model, temperature_field) -> np.ndarray:
     conductivity = np.array([model.materials[r.material].conductivity
                              for r in model.regions])[mesh.region]
     if problem.element == "P1":
-        # the gradient of the linear interpolant of each triangle, in closed
-        # form: ∇θ = Σ θk ∇λk, ∇λk the barycentric gradients (no quadrature)
-        p = mesh.nodes[mesh.triangles]                                   # (T, 3, 2) [m]
-        theta = np.asarray(temperature_field.temperature)[mesh.triangles]  # (T, 3) [°C]
-        e1, e2 = p[:, 1] - p[:, 0], p[:, 2] - p[:, 0]
-        det = e1[:, 0] * e2[:, 1] - e1[:, 1] * e2[:, 0]                  # 2 × area [m²]
-        d1, d2 = theta[:, 1] - theta[:, 0], theta[:, 2] - theta[:, 0]
-        gradient = np.column_stack([(d1 * e2[:, 1] - d2 * e1[:, 1]) / det,
-                                    (d2 * e1[:, 0] - d1 * e2[:, 0]) / det])  # [K/m]
+        # the constant gradient of each triangle in closed form (no quadrature),
+        # as the error indicators take it
+        gradient = p1_gradients(mesh.nodes, mesh.triangles,
+                                np.asarray(temperature_field.temperature))   # [K/m]
         return -(conductivity[:, None] * gradient)
     basis = problem.basis
     gradient = basis.interpolate(temperature_field.temperature).grad    # (2, T, nqp) [K/m]
