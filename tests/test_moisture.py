@@ -510,7 +510,7 @@ def test_outputs_show_the_check(tmp_path):
     import csv
     from bridgecalc import api
     from bridgecalc.outputs import write_outputs
-    from bridgecalc.outputs.figures.moisture import critical_isotherm_level
+    from bridgecalc.outputs.figures.catalogue import critical_isotherm_level
     result = api.run(read(files(tmp_path)), refinement=None, f_rsi_min=0.95)
     out = write_outputs(result, tmp_path / "out", workers=1, stamp=False, vector_figures=True)
     data = json.loads((out / "results.json").read_text(encoding="utf-8"))

@@ -365,7 +365,8 @@ def legend_rows(name: str, result) -> int:
         return math.ceil(len(material_codes(result)[0]) / 2)
     if name in ("mesh", "mesh_detail"):
         return 4
-    if name in ("temperature", "temperature_detail") and critical_isotherm_shown(result):
+    if (name in ("temperature", "temperature_detail")
+            and shown_critical_isotherm(result) is not None):
         return 3            # the colour bar, then the critical isotherm's entry
     return 0
 
@@ -385,14 +386,15 @@ def critical_isotherm_level(result) -> float | None:
     return theta_e + moisture.f_rsi_required * (theta_i - theta_e)
 
 
-def critical_isotherm_shown(result) -> bool:
-    """Whether the temperature figure draws the critical month's isotherm: it
-    has a level (:func:`critical_isotherm_level`) inside the field's range."""
+def shown_critical_isotherm(result) -> float | None:
+    """The level [°C] of the critical month's isotherm when the temperature
+    figure draws it (:func:`critical_isotherm_level`, inside the field's
+    range), else None."""
     level = critical_isotherm_level(result)
     if level is None:
-        return False
+        return None
     theta = result.surface_temperature_case.field.nodal
-    return bool(float(np.min(theta)) < level < float(np.max(theta)))
+    return level if float(np.min(theta)) < level < float(np.max(theta)) else None
 
 
 def material_codes(result):

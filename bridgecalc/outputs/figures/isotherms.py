@@ -234,15 +234,15 @@ class PointsNear:
                 if not count.any():
                     continue
                 query = np.repeat(np.arange(len(queries)), count)
-                at = np.repeat(start - np.cumsum(count) + count, count) + np.arange(count.sum())
+                first = np.cumsum(count) - count            # each query's stretch in ``at``
+                at = np.repeat(start - first, count) + np.arange(count.sum())
                 d = np.hypot(*(self.points[at] - queries[query]).T)
                 if exclude is not None:
                     d[self.labels[at] == np.asarray(exclude)[query]] = np.inf
                 # ``query`` runs in order, one stretch per query with points:
                 # the least of each stretch (ufunc.at would take ten times as long)
                 some = np.flatnonzero(count)
-                first = (np.cumsum(count) - count)[some]
-                out[some] = np.minimum(out[some], np.minimum.reduceat(d, first))
+                out[some] = np.minimum(out[some], np.minimum.reduceat(d, first[some]))
         return out
 
 

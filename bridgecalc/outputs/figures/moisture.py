@@ -12,7 +12,7 @@ import numpy as np
 
 from ..verdicts import MONTH_NAMES, moisture_of, short_humidity
 from .catalogue import (MARGIN_LEFT, MARGIN_TOP, PAGE_WIDTH, PROFILE_BOTTOM, PROFILE_HEIGHT,
-                        critical_isotherm_level, critical_isotherm_shown)
+                        shown_critical_isotherm)
 from .layout import header
 from .style import ADIABATIC, INTERIOR, MUTED, PAPER, STYLE, VOID, plt
 
@@ -89,14 +89,14 @@ def moisture_figure(result):
 
 def draw_critical_isotherm(ax, triangulation, theta, result):
     """On the temperature figure: the isotherm of the critical month's θsi,min
-    (:func:`critical_isotherm_level`), dashed, so a reviewer sees where the
+    (:func:`.catalogue.shown_critical_isotherm`), dashed, so a reviewer sees where the
     surface falls below it. Returns its legend entry (a line with its label),
     or None when the level is not in the field; the figure shows the entry
     once, in its panel under the colour bar, not over each view."""
     from matplotlib.lines import Line2D
-    if not critical_isotherm_shown(result):
+    level = shown_critical_isotherm(result)
+    if level is None:
         return None
-    level = critical_isotherm_level(result)
     moisture = moisture_of(result)
     critical = moisture.critical
     ax.tricontour(triangulation, theta, levels=[level], colors=REQUIRED, linewidths=1.3,

@@ -103,8 +103,7 @@ def _mark_minimum(ax, result, extent, grid):
 
     The label is tried in the four diagonal directions at two distances; a
     place fully inside the plot is preferred; failing that, one on the page
-    and off the figure's other plots and colour bar; then the one over the
-    least solid. Nothing is drawn when θsi,min lies outside the view.
+    and off the figure's other plot; then the one over the least solid. Nothing is drawn when θsi,min lies outside the view.
 
     Parameters
     ----------
@@ -188,7 +187,7 @@ def _mark_minimum(ax, result, extent, grid):
 
 #: Where a distance's text goes from its tick [points], and how it is aligned:
 #: up and left first, then the other corners, the first that keeps clear of
-#: the θsi,min and isotherm labels.
+#: the θsi,min and isotherm labels and the scale bar.
 DISTANCE_PLACES = (((-3, 3), "right", "bottom"), ((3, 3), "left", "bottom"),
                    ((-3, -3), "right", "top"), ((3, -3), "left", "top"))
 
@@ -235,17 +234,16 @@ def _clear_of(text, avoid) -> None:
     """Put ``text`` at the first of :data:`DISTANCE_PLACES` where its box
     overlaps none of ``avoid`` (the first place when none is clear)."""
     renderer = text.get_figure().canvas.get_renderer()
-    for offset, ha, va in DISTANCE_PLACES:
+
+    def put(offset, ha, va):
         text.xyann = offset
         text.set_horizontalalignment(ha)
         text.set_verticalalignment(va)
-        box = text.get_window_extent(renderer)
-        if not any(box.overlaps(other) for other in avoid):
+    for place in DISTANCE_PLACES:
+        put(*place)
+        if not any(text.get_window_extent(renderer).overlaps(other) for other in avoid):
             return
-    offset, ha, va = DISTANCE_PLACES[0]
-    text.xyann = offset
-    text.set_horizontalalignment(ha)
-    text.set_verticalalignment(va)
+    put(*DISTANCE_PLACES[0])
 
 
 def environments_text(model) -> str:

@@ -11,6 +11,7 @@ document information is given the report's own date instead
 
 from __future__ import annotations
 
+import contextlib
 from pathlib import Path
 from types import MappingProxyType
 from xml.sax.saxutils import escape
@@ -414,7 +415,7 @@ def lay_out(report: Report, path, vector: bool = False) -> Pages:
                             topMargin=1.6 * cm, bottomMargin=1.8 * cm, title=report.title,
                             author=f"bridgecalc {__version__}", subject="thermal bridge report",
                             creator=f"bridgecalc {__version__}", invariant=1)
-    doc._doSave = int(vector)           # ReportLab's switch: the canvas is saved later
+    doc._doSave = int(vector)           # ReportLab's switch: PNG figures save it later
 
     def footer(canvas, document):
         canvas.saveState()
@@ -433,21 +434,16 @@ def lay_out(report: Report, path, vector: bool = False) -> Pages:
     return Pages(path, placed, vector, None if vector else doc.canv)
 
 
+@contextlib.contextmanager
 def _binary_streams():
     """ReportLab writing its streams binary: ASCII85 in pure Python costs seconds."""
-    import contextlib
-
     from reportlab import rl_config
-
-    @contextlib.contextmanager
-    def binary():
-        saved = rl_config.useA85
-        rl_config.useA85 = 0
-        try:
-            yield
-        finally:
-            rl_config.useA85 = saved
-    return binary()
+    saved = rl_config.useA85
+    rl_config.useA85 = 0
+    try:
+        yield
+    finally:
+        rl_config.useA85 = saved
 
 
 def place_figures(pages: Pages) -> None:
@@ -476,7 +472,7 @@ def place_figures(pages: Pages) -> None:
         stream, entries = png_stream(png)
         image = PDFStream(PDFDictionary({"Type": PDFName("XObject"),
                                          "Subtype": PDFName("Image"),
-                                         **{k: entry(v) for k, v in entries.items()}}),
+                                         **{key: entry(v) for key, v in entries.items()}}),
                           stream)
         image_name = FIGURE_IMAGE.format(k)
         document.Reference(image, image_name)
